@@ -1,0 +1,1 @@
+//! fem stage (to be written).

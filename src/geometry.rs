@@ -1,0 +1,1 @@
+//! geometry stage (to be written).

@@ -1,0 +1,1 @@
+//! run stage (to be written).
