@@ -81,3 +81,426 @@ impl Mesh {
         ((q[0] - p[0]).powi(2) + (q[1] - p[1]).powi(2)).sqrt()
     }
 }
+
+use crate::error::{Error, Result};
+use crate::geometry::{self, Pslg, Zone};
+use crate::model::Section;
+use spade::handles::{FixedVertexHandle, InnerTag, FaceHandle};
+use spade::{
+    AngleLimit, CdtEdge, ConstrainedDelaunayTriangulation, Point2, RefinementParameters,
+    Triangulation,
+};
+
+type Cdt = ConstrainedDelaunayTriangulation<Point2<f64>>;
+
+/// Rough number of triangles a quality mesh with this area limit has (Delaunay refinement
+/// leaves triangles of about half the limit on average; measured on the demo sections).
+pub fn estimate_triangles(section_area: f64, max_area: f64) -> f64 {
+    2.2 * section_area / max_area
+}
+
+/// Options of the mesh stage beyond the model file.
+#[derive(Debug, Clone, Copy)]
+pub struct MeshOptions {
+    /// Refuse a mesh estimated to exceed this many triangles.
+    pub max_triangles: usize,
+    /// Refine (false: constrained Delaunay triangulation of the input only, for `check`).
+    pub refine: bool,
+}
+
+impl Default for MeshOptions {
+    fn default() -> Self {
+        MeshOptions {
+            max_triangles: crate::model::DEFAULT_MAX_TRIANGLES,
+            refine: true,
+        }
+    }
+}
+
+fn ring_area(points: &[[f64; 2]]) -> f64 {
+    let n = points.len();
+    (0..n)
+        .map(|i| {
+            let (p, q) = (points[i], points[(i + 1) % n]);
+            p[0] * q[1] - q[0] * p[1]
+        })
+        .sum::<f64>()
+        * 0.5
+}
+
+/// Area of the discretised section (outline minus holes), m².
+pub fn section_area(section: &Section) -> f64 {
+    ring_area(&section.outline.points)
+        - section
+            .holes
+            .iter()
+            .map(|h| ring_area(&h.points))
+            .sum::<f64>()
+}
+
+fn angle_deg(a: [f64; 2], b: [f64; 2], c: [f64; 2]) -> f64 {
+    // angle at a
+    let u = [b[0] - a[0], b[1] - a[1]];
+    let v = [c[0] - a[0], c[1] - a[1]];
+    let cross = u[0] * v[1] - u[1] * v[0];
+    let dot = u[0] * v[0] + u[1] * v[1];
+    cross.abs().atan2(dot).to_degrees()
+}
+
+/// Smallest angle of a triangle, degrees.
+pub fn min_angle_of(p: [[f64; 2]; 3]) -> f64 {
+    angle_deg(p[0], p[1], p[2])
+        .min(angle_deg(p[1], p[2], p[0]))
+        .min(angle_deg(p[2], p[0], p[1]))
+}
+
+/// Input angles (between constraint pieces meeting at a vertex, inside the section) smaller
+/// than `limit` degrees: (vertex, angle).
+fn small_input_angles(pslg: &Pslg, used: &[usize], limit: f64) -> Vec<(usize, f64)> {
+    let mut incident: Vec<Vec<(f64, Zone)>> = vec![Vec::new(); pslg.vertices.len()];
+    for p in &pslg.pieces {
+        let [a, b] = p.v;
+        let (pa, pb) = (pslg.vertices[a], pslg.vertices[b]);
+        incident[a].push(((pb[1] - pa[1]).atan2(pb[0] - pa[0]), p.left));
+        incident[b].push(((pa[1] - pb[1]).atan2(pa[0] - pb[0]), p.right));
+    }
+    let mut out = Vec::new();
+    for &v in used {
+        let inc = &mut incident[v];
+        if inc.len() < 2 {
+            continue;
+        }
+        inc.sort_by(|x, y| x.0.total_cmp(&y.0));
+        let mut smallest: Option<f64> = None;
+        for i in 0..inc.len() {
+            let (a0, zone) = inc[i];
+            let a1 = inc[(i + 1) % inc.len()].0;
+            let mut w = a1 - a0;
+            if w <= 0.0 {
+                w += 2.0 * std::f64::consts::PI;
+            }
+            let w = w.to_degrees();
+            if zone.is_some() && w < limit {
+                smallest = Some(smallest.map_or(w, |s: f64| s.min(w)));
+            }
+        }
+        if let Some(w) = smallest {
+            out.push((v, w));
+        }
+    }
+    out
+}
+
+/// Zone to the left of a directed edge lying on `piece`, going from `a` to `b`.
+fn zone_left_of(pslg: &Pslg, piece: usize, a: [f64; 2], b: [f64; 2]) -> Zone {
+    let p = &pslg.pieces[piece];
+    let (pa, pb) = (pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]);
+    let same = (b[0] - a[0]) * (pb[0] - pa[0]) + (b[1] - a[1]) * (pb[1] - pa[1]) > 0.0;
+    if same {
+        p.left
+    } else {
+        p.right
+    }
+}
+
+/// Mesh a section: PSLG → constrained Delaunay triangulation → refinement → classification.
+pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh> {
+    let area = section_area(section);
+    let max_area = section.mesh.max_area;
+    let estimate = estimate_triangles(area, max_area);
+    if opts.refine && estimate > opts.max_triangles as f64 {
+        return Err(Error::input(format!(
+            "mesh: max_area = {max_area:e} m² would give about {:.0} triangles for a section of {area:.6e} m², above the limit of {}; raise max_area (at least {:.3e} m²) or pass --max-triangles",
+            estimate,
+            opts.max_triangles,
+            estimate_triangles(area, opts.max_triangles as f64)
+        )));
+    }
+
+    // Only vertices that end a piece enter the triangulation.
+    let mut used = vec![false; pslg.vertices.len()];
+    for p in &pslg.pieces {
+        used[p.v[0]] = true;
+        used[p.v[1]] = true;
+    }
+    let used_list: Vec<usize> = (0..pslg.vertices.len()).filter(|&i| used[i]).collect();
+    let mut to_cdt = vec![usize::MAX; pslg.vertices.len()];
+    for (k, &i) in used_list.iter().enumerate() {
+        to_cdt[i] = k;
+    }
+    let verts: Vec<Point2<f64>> = used_list
+        .iter()
+        .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
+        .collect();
+    let edges: Vec<[usize; 2]> = pslg
+        .pieces
+        .iter()
+        .map(|p| [to_cdt[p.v[0]], to_cdt[p.v[1]]])
+        .collect();
+    let mut conflicts = Vec::new();
+    let mut cdt = Cdt::try_bulk_load_cdt(verts.clone(), edges, |e| conflicts.push(e))
+        .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
+    if !conflicts.is_empty() || cdt.num_vertices() != verts.len() {
+        return Err(Error::run(format!(
+            "internal: {} constraint conflicts while triangulating the segment set",
+            conflicts.len()
+        )));
+    }
+    for (k, v) in cdt.vertices().enumerate() {
+        if v.position() != verts[k] {
+            return Err(Error::run("internal: triangulation reordered the input vertices"));
+        }
+    }
+
+    let small = small_input_angles(pslg, &used_list, section.mesh.min_angle);
+    if opts.refine {
+        let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+        for p in &verts {
+            lo = [lo[0].min(p.x), lo[1].min(p.y)];
+            hi = [hi[0].max(p.x), hi[1].max(p.y)];
+        }
+        let bbox_area = (hi[0] - lo[0]) * (hi[1] - lo[1]);
+        let budget = (3.0 * bbox_area / max_area).min(4.0 * opts.max_triangles as f64) as usize
+            + 50 * verts.len()
+            + 10_000;
+        let params = RefinementParameters::<f64>::new()
+            .with_angle_limit(AngleLimit::from_deg(section.mesh.min_angle))
+            .with_max_allowed_area(max_area)
+            .with_max_additional_vertices(budget);
+        let result = cdt.refine(params);
+        if !result.refinement_complete {
+            return Err(Error::run(format!(
+                "mesh refinement stopped after {} added vertices without meeting min_angle = {}° and max_area = {:e} m²; lower min_angle (e.g. 25), raise max_area, or remove very small input angles{}",
+                cdt.num_vertices() - verts.len(),
+                section.mesh.min_angle,
+                max_area,
+                if small.is_empty() { String::new() } else { format!(" ({} vertices have input angles below min_angle)", small.len()) }
+            )));
+        }
+    }
+
+    // Map every constraint edge of the final triangulation to the piece it lies on, by walking
+    // from each piece's first vertex to its last along collinear constraint edges.
+    let mut edge_piece = vec![u32::MAX; cdt.num_undirected_edges()];
+    for (pi, p) in pslg.pieces.iter().enumerate() {
+        let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
+        let pb = verts[b];
+        let mut cur = FixedVertexHandle::from_index(a);
+        let mut steps = 0usize;
+        while cur.index() != b {
+            let here = cdt.vertex(cur).position();
+            let dir = [pb.x - here.x, pb.y - here.y];
+            let dl = (dir[0] * dir[0] + dir[1] * dir[1]).sqrt();
+            let mut best: Option<(f64, _)> = None;
+            for e in cdt.vertex(cur).out_edges() {
+                if !e.is_constraint_edge() {
+                    continue;
+                }
+                let to = e.to().position();
+                let d = [to.x - here.x, to.y - here.y];
+                let l = (d[0] * d[0] + d[1] * d[1]).sqrt();
+                let c = (d[0] * dir[0] + d[1] * dir[1]) / (l * dl);
+                if best.as_ref().is_none_or(|(bc, _)| c > *bc) {
+                    best = Some((c, e));
+                }
+            }
+            match best {
+                Some((c, e)) if c > 1.0 - 1e-6 => {
+                    edge_piece[e.as_undirected().fix().index()] = pi as u32;
+                    cur = e.to().fix();
+                }
+                _ => {
+                    return Err(Error::run(format!(
+                        "internal: lost the constraint path of a segment near ({}, {})",
+                        here.x, here.y
+                    )))
+                }
+            }
+            steps += 1;
+            if steps > cdt.num_vertices() {
+                return Err(Error::run("internal: constraint path does not end"));
+            }
+        }
+    }
+
+    // Components of faces connected across non-constraint edges; zone from a bounding piece.
+    let nfaces = cdt.num_all_faces();
+    let mut comp = vec![usize::MAX; nfaces];
+    let mut comp_zone: Vec<Zone> = Vec::new();
+    let mut stack = Vec::new();
+    for f in cdt.inner_faces() {
+        let fi = f.fix().index();
+        if comp[fi] != usize::MAX {
+            continue;
+        }
+        let c = comp_zone.len();
+        let mut zone: Option<Zone> = None;
+        comp[fi] = c;
+        stack.push(f);
+        while let Some(face) = stack.pop() {
+            for e in face.adjacent_edges() {
+                if e.is_constraint_edge() {
+                    let piece = edge_piece[e.as_undirected().fix().index()];
+                    if piece == u32::MAX {
+                        return Err(Error::run("internal: constraint edge without a segment"));
+                    }
+                    let [a, b] = e.positions();
+                    let z = zone_left_of(pslg, piece as usize, [a.x, a.y], [b.x, b.y]);
+                    match zone {
+                        None => zone = Some(z),
+                        Some(prev) if prev != z => {
+                            let p = e.from().position();
+                            return Err(Error::run(format!(
+                                "internal: inconsistent zones around ({}, {})",
+                                p.x, p.y
+                            )));
+                        }
+                        _ => {}
+                    }
+                    continue;
+                }
+                match e.rev().face().as_inner() {
+                    Some(n) => {
+                        let ni = n.fix().index();
+                        if comp[ni] == usize::MAX {
+                            comp[ni] = c;
+                            stack.push(n);
+                        }
+                    }
+                    None => {
+                        // Convex hull edge that is not a constraint: outside the outline.
+                        if let Some(Some(_)) = zone {
+                            return Err(Error::run("internal: material zone reaches the convex hull"));
+                        }
+                        zone = zone.or(Some(None));
+                    }
+                }
+            }
+        }
+        comp_zone.push(zone.unwrap_or(None));
+    }
+
+    // Kept triangles and node numbering (in triangulation vertex order).
+    let face_zone = |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| comp_zone[comp[f.fix().index()]];
+    let mut node_of = vec![usize::MAX; cdt.num_vertices()];
+    let mut kept_faces = Vec::new();
+    for f in cdt.inner_faces() {
+        if face_zone(f).is_some() {
+            kept_faces.push(f);
+            for v in f.vertices() {
+                node_of[v.fix().index()] = 0;
+            }
+        }
+    }
+    if kept_faces.is_empty() {
+        return Err(Error::input("mesh: the section has no area"));
+    }
+    let mut nodes = Vec::new();
+    for v in cdt.vertices() {
+        let i = v.fix().index();
+        if node_of[i] == 0 {
+            node_of[i] = nodes.len();
+            let p = v.position();
+            nodes.push([p.x, p.y]);
+        }
+    }
+    let mut tri_index = vec![usize::MAX; nfaces];
+    let mut triangles = Vec::with_capacity(kept_faces.len());
+    let mut material = Vec::with_capacity(kept_faces.len());
+    for (t, f) in kept_faces.iter().enumerate() {
+        tri_index[f.fix().index()] = t;
+        let vs = f.vertices();
+        triangles.push([
+            node_of[vs[0].fix().index()],
+            node_of[vs[1].fix().index()],
+            node_of[vs[2].fix().index()],
+        ]);
+        let zone = face_zone(*f).expect("kept faces have a zone");
+        material.push(pslg.zone_material[zone]);
+    }
+    // Boundary edges: edges of kept faces whose other side is not kept.
+    let mut boundary_edges = Vec::new();
+    for f in &kept_faces {
+        for e in f.adjacent_edges() {
+            let other_kept = e
+                .rev()
+                .face()
+                .as_inner()
+                .map(|n| face_zone(n).is_some())
+                .unwrap_or(false);
+            if other_kept {
+                continue;
+            }
+            let piece = edge_piece[e.as_undirected().fix().index()];
+            if piece == u32::MAX {
+                return Err(Error::run("internal: section boundary edge is not a constraint"));
+            }
+            let p = &pslg.pieces[piece as usize];
+            let ring = p.ring.ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
+            boundary_edges.push(BoundaryEdge {
+                nodes: [node_of[e.from().fix().index()], node_of[e.to().fix().index()]],
+                boundary: p.boundary,
+                triangle: tri_index[f.fix().index()],
+                ring,
+            });
+        }
+    }
+
+    // Quality statistics.
+    let small_nodes: Vec<bool> = {
+        let mut v = vec![false; nodes.len()];
+        for &(pv, _) in &small {
+            let n = node_of[to_cdt[pv]];
+            if n != usize::MAX {
+                v[n] = true;
+            }
+        }
+        v
+    };
+    let mut stats = MeshStats {
+        nodes: nodes.len(),
+        triangles: triangles.len(),
+        boundary_edges: boundary_edges.len(),
+        min_angle_deg: f64::INFINITY,
+        min_angle_away_from_small_input_angles_deg: f64::INFINITY,
+        max_area: 0.0,
+        min_area: f64::INFINITY,
+        worst_triangle: 0,
+        worst_triangle_centroid: [0.0; 2],
+        small_input_angles: small
+            .iter()
+            .map(|&(v, a)| SmallInputAngle {
+                at: pslg.vertices[v],
+                angle_deg: a,
+            })
+            .collect(),
+        area: 0.0,
+    };
+    for (t, tri) in triangles.iter().enumerate() {
+        let p = [nodes[tri[0]], nodes[tri[1]], nodes[tri[2]]];
+        let a = 0.5 * geometry::orient(p[0], p[1], p[2]);
+        stats.area += a;
+        stats.max_area = stats.max_area.max(a);
+        stats.min_area = stats.min_area.min(a);
+        let m = min_angle_of(p);
+        if m < stats.min_angle_deg {
+            stats.min_angle_deg = m;
+            stats.worst_triangle = t;
+            stats.worst_triangle_centroid = [
+                (p[0][0] + p[1][0] + p[2][0]) / 3.0,
+                (p[0][1] + p[1][1] + p[2][1]) / 3.0,
+            ];
+        }
+        if !tri.iter().any(|&n| small_nodes[n]) {
+            stats.min_angle_away_from_small_input_angles_deg =
+                stats.min_angle_away_from_small_input_angles_deg.min(m);
+        }
+    }
+    Ok(Mesh {
+        nodes,
+        triangles,
+        material,
+        boundary_edges,
+        stats,
+    })
+}
