@@ -13,6 +13,7 @@ pub mod io;
 pub mod mesh;
 pub mod model;
 pub mod post;
+pub mod report;
 pub mod run;
 pub mod solve;
 

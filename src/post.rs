@@ -95,3 +95,4 @@ pub struct Results {
     /// Warnings found while post-processing (skipped line samples, snapped probes).
     pub warnings: Vec<String>,
 }
+pub fn postprocess(_s: &crate::model::Section, _m: &crate::mesh::Mesh, _y: &crate::fem::System, _x: &crate::solve::Solution) -> crate::error::Result<Results> { todo!() }
