@@ -998,10 +998,7 @@ mod tests {
             owned(&[("heat_flux", 3, 6), ("gradient", 3, 6), ("material", 1, 2)])
         );
         assert_eq!(point[0].data, IOBuffer::F64(res.temperature.clone()));
-        assert_eq!(
-            point[1].data,
-            IOBuffer::F64(vec![10.0, 1e-20, 0.0].repeat(4))
-        );
+        assert_eq!(point[1].data, IOBuffer::F64([10.0, 1e-20, 0.0].repeat(4)));
         assert_eq!(cell[2].data, IOBuffer::I32(vec![0, 1]));
     }
 
