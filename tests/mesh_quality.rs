@@ -1,0 +1,173 @@
+//! Mesh-stage tests: material tagging of layered and nested regions, conformity, boundary-name
+//! mapping, and the quality bounds on every demo section.
+
+use xsheat::mesh::MeshOptions;
+use xsheat::model;
+use xsheat::run;
+
+fn prepare(text: &str) -> run::Prepared {
+    let file = model::parse(text).expect("parse");
+    run::prepare_model(file).expect("valid model")
+}
+
+fn centroid(m: &xsheat::mesh::Mesh, t: usize) -> [f64; 2] {
+    let [a, b, c] = m.triangles[t];
+    let (pa, pb, pc) = (m.nodes[a], m.nodes[b], m.nodes[c]);
+    [(pa[0] + pb[0] + pc[0]) / 3.0, (pa[1] + pb[1] + pc[1]) / 3.0]
+}
+
+const LAYERED: &str = r#"
+[mesh]
+max_area = 0.02
+[materials.a-soil]
+conductivity = 1.0
+[materials.b-rock]
+conductivity = 2.0
+[materials.c-inclusion]
+conductivity = 3.0
+[outline]
+material = "a-soil"
+points = [[0.0, 0.0], [4.0, 0.0], [4.0, 3.0], [0.0, 3.0]]
+edges = ["bottom", "side", "top", "side"]
+# shares the outline's base and both sides
+[[regions]]
+material = "b-rock"
+points = [[0.0, 0.0], [4.0, 0.0], [4.0, 1.0], [0.0, 1.0]]
+# nested inside the soil, away from every edge
+[[regions]]
+material = "c-inclusion"
+points = [[1.5, 1.8], [2.5, 1.8], [2.5, 2.4], [1.5, 2.4]]
+# nested inside the rock layer, a later region of the same material as the outline
+[[regions]]
+material = "a-soil"
+circle = { center = [3.0, 0.5], radius = 0.3, segments = 32 }
+[boundaries.bottom]
+kind = "fixed"
+temperature = 10.0
+[boundaries.top]
+kind = "convection"
+h = 10.0
+ambient = 20.0
+[boundaries.side]
+kind = "insulated"
+"#;
+
+fn expected_material(p: [f64; 2]) -> usize {
+    // ids in alphabetical order: a-soil 0, b-rock 1, c-inclusion 2
+    let in_circle = {
+        // inscribed 32-gon of the circle; centroids near the rim are inside the polygon
+        (p[0] - 3.0).powi(2) + (p[1] - 0.5).powi(2) < 0.3f64.powi(2)
+    };
+    if in_circle {
+        0
+    } else if p[1] < 1.0 {
+        1
+    } else if (1.5..=2.5).contains(&p[0]) && (1.8..=2.4).contains(&p[1]) {
+        2
+    } else {
+        0
+    }
+}
+
+#[test]
+fn layered_and_nested_regions_carry_the_right_material() {
+    let p = prepare(LAYERED);
+    let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+    assert!(m.stats.triangles > 500);
+    let mut area = [0.0; 3];
+    for t in 0..m.triangles.len() {
+        let c = centroid(&m, t);
+        assert_eq!(m.material[t], expected_material(c), "triangle {t} at {c:?}");
+        area[m.material[t]] += m.triangle_area(t);
+    }
+    // Exact areas of the layout (the circle as its inscribed 32-gon: ½·N·r²·sin(2π/N)).
+    let circle = 0.5 * 32.0 * 0.09 * (2.0 * std::f64::consts::PI / 32.0).sin();
+    assert!((area[2] - 0.6).abs() < 1e-12);
+    assert!((area[1] - (4.0 - circle)).abs() < 1e-12);
+    assert!((area[0] - (12.0 - 4.0 - 0.6 + circle)).abs() < 1e-12);
+}
+
+#[test]
+fn boundary_edges_map_back_to_their_names() {
+    let p = prepare(LAYERED);
+    let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+    let s = &p.section;
+    let id = |n: &str| s.boundaries.iter().position(|b| b.name == n);
+    let mut len = std::collections::BTreeMap::new();
+    for e in &m.boundary_edges {
+        *len.entry(e.boundary).or_insert(0.0) += m.edge_length(e);
+        // The section lies to the left of every boundary edge.
+        let t = m.triangles[e.triangle];
+        assert!(t.contains(&e.nodes[0]) && t.contains(&e.nodes[1]));
+        let c = centroid(&m, e.triangle);
+        let (a, b) = (m.nodes[e.nodes[0]], m.nodes[e.nodes[1]]);
+        assert!(xsheat::geometry::orient(a, b, c) > 0.0);
+    }
+    assert!((len[&id("bottom")] - 4.0).abs() < 1e-12);
+    assert!((len[&id("top")] - 4.0).abs() < 1e-12);
+    assert!((len[&id("side")] - 6.0).abs() < 1e-12);
+    assert_eq!(len.len(), 3);
+}
+
+#[test]
+fn sloped_edge_vertex_leaves_no_sliver() {
+    // A region corner on a sloped outline edge (1/3 of the way along y = 3 - x ... not exactly
+    // representable) must be snapped onto it: no triangle thinner than the angle limit allows.
+    let text = r#"
+[mesh]
+max_area = 0.01
+min_angle = 28
+[materials.a]
+conductivity = 1.0
+[materials.b]
+conductivity = 2.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [3.0, 0.0], [0.0, 3.0]]
+edges = ["base", "slope", "side"]
+[[regions]]
+material = "b"
+points = [[0.0, 0.0], [1.0, 0.0], [1.0, 2.0], [0.0, 2.0]]
+[boundaries.base]
+kind = "fixed"
+temperature = 0.0
+[boundaries.slope]
+kind = "convection"
+h = 5.0
+ambient = 30.0
+[boundaries.side]
+kind = "insulated"
+"#;
+    let p = prepare(text);
+    let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+    // The only input angles below 28° are none here: (1, 2) lies on the slope.
+    assert!(m.stats.min_angle_away_from_small_input_angles_deg >= 28.0 - 1e-9);
+    let total: f64 = (0..m.triangles.len()).map(|t| m.triangle_area(t)).sum();
+    assert!((total - 4.5).abs() < 1e-12, "area {total}");
+}
+
+#[test]
+fn demo_sections_meet_the_quality_bounds() {
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/geometry");
+    let mut n = 0;
+    for entry in std::fs::read_dir(dir).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().and_then(|e| e.to_str()) != Some("toml") {
+            continue;
+        }
+        n += 1;
+        let p = run::prepare(&path).unwrap();
+        let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+        let s = &p.section;
+        assert!(
+            m.stats.min_angle_away_from_small_input_angles_deg >= s.mesh.min_angle - 1e-9,
+            "{}: min angle {}",
+            path.display(),
+            m.stats.min_angle_away_from_small_input_angles_deg
+        );
+        assert!(m.stats.max_area <= s.mesh.max_area * (1.0 + 1e-9), "{}", path.display());
+        let discretised = xsheat::mesh::section_area(s);
+        assert!((m.stats.area - discretised).abs() <= 1e-9 * discretised);
+    }
+    assert!(n >= 2);
+}
