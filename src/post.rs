@@ -1,7 +1,8 @@
 //! Post stage: everything computed from the solved field — gradients and heat fluxes per
 //! triangle and recovered per node, heat flow per boundary (reactions for fixed edges, exact
 //! edge integrals for flux and convection edges), the energy balance, temperature extremes,
-//! probes and line profiles.
+//! probes and line profiles. [`Locator`] (point location and nearest boundary point over
+//! bucket grids) is public for reuse by other features.
 
 use crate::error::{Error, Result};
 use crate::fem::{System, TriangleGeometry, check_mesh};
@@ -389,13 +390,13 @@ impl<'a> Locator<'a> {
             }
             // Lower bound on the distance to any bucket outside the searched block.
             let mut bound = f64::INFINITY;
-            if ci >= k + 1 {
+            if ci > k {
                 bound = bound.min((p[0] - (g.x0 + i0 as f64 * g.cw)).max(0.0));
             }
             if ci + k < g.nx - 1 {
                 bound = bound.min((g.x0 + (i1 + 1) as f64 * g.cw - p[0]).max(0.0));
             }
-            if cj >= k + 1 {
+            if cj > k {
                 bound = bound.min((p[1] - (g.y0 + j0 as f64 * g.ch)).max(0.0));
             }
             if cj + k < g.ny - 1 {
@@ -562,7 +563,7 @@ fn boundary_results(
     }
     // Reactions of fixed nodes, split between the fixed boundaries meeting at a node in
     // proportion to the lengths of its adjacent fixed edges of each.
-    fixed_ends.sort_unstable_by(|x, y| (x.0, x.1).cmp(&(y.0, y.1)));
+    fixed_ends.sort_by_key(|x| (x.0, x.1));
     let mut k = 0;
     while k < fixed_ends.len() {
         let node = fixed_ends[k].0;
@@ -1160,5 +1161,37 @@ mod tests {
                 .iter()
                 .all(|&l| l >= 0.0)
         );
+    }
+
+    /// About 10⁶ triangles through assembly, solve and post-processing (run with `--ignored`).
+    #[test]
+    #[ignore]
+    fn million_triangles_end_to_end() {
+        let tags = [Some(0), Some(1), Some(0), Some(1)];
+        let mut section = rectangle_section(
+            1.0,
+            1.0,
+            &[("m", 1.0, 10.0)],
+            &[
+                ("a", BoundaryKind::Fixed { temperature: 0.0 }),
+                (
+                    "b",
+                    BoundaryKind::Convection {
+                        h: 3.0,
+                        ambient: 5.0,
+                    },
+                ),
+            ],
+            tags,
+        );
+        section.probes = (0..1000)
+            .map(|i| probe(&format!("p{i}"), (i as f64 + 0.5) / 1000.0, 0.37))
+            .collect();
+        let mesh = rectangle_mesh(1.0, 1.0, 708, 708, tags, |_| 0);
+        let t = std::time::Instant::now();
+        let (_, solution, results) = run(&section, &mesh);
+        eprintln!("{} triangles: {:?}", mesh.triangles.len(), t.elapsed());
+        assert!(solution.residual_relative < 1e-10);
+        assert!(results.energy_imbalance_relative < 1e-10);
     }
 }
