@@ -1,8 +1,14 @@
 //! Post stage: everything computed from the solved field — gradients and heat fluxes per
 //! triangle and recovered per node, heat flow per boundary (reactions for fixed edges, exact
 //! edge integrals for flux and convection edges), the energy balance, temperature extremes,
-//! probes and line profiles.
+//! probes and line profiles. [`Locator`] (point location and nearest boundary point over
+//! bucket grids) is public for reuse by other features.
 
+use crate::error::{Error, Result};
+use crate::fem::{System, TriangleGeometry, check_mesh};
+use crate::mesh::{Mesh, RingRef};
+use crate::model::{BoundaryKind, Section};
+use crate::solve::Solution;
 use serde::Serialize;
 
 /// Where an extreme temperature occurs.
@@ -95,4 +101,1097 @@ pub struct Results {
     /// Warnings found while post-processing (skipped line samples, snapped probes).
     pub warnings: Vec<String>,
 }
-pub fn postprocess(_s: &crate::model::Section, _m: &crate::mesh::Mesh, _y: &crate::fem::System, _x: &crate::solve::Solution) -> crate::error::Result<Results> { todo!() }
+
+// ---------------------------------------------------------------------------------------------
+// Computation
+// ---------------------------------------------------------------------------------------------
+
+/// Barycentric tolerance of point location: a point is inside a triangle when every
+/// barycentric coordinate is at least `-INSIDE_TOLERANCE`.
+pub const INSIDE_TOLERANCE: f64 = 1e-12;
+/// Points this far outside the discretised boundary, relative to the section's diameter, are
+/// still evaluated (at the nearest boundary point).
+pub const SNAP_RELATIVE_TOLERANCE: f64 = 1e-9;
+
+/// A uniform grid of buckets over the mesh's bounding box; each bucket lists the items whose
+/// bounding boxes overlap it, in increasing item order (compressed storage).
+#[derive(Debug, Clone)]
+struct BucketGrid {
+    x0: f64,
+    y0: f64,
+    cw: f64,
+    ch: f64,
+    nx: usize,
+    ny: usize,
+    start: Vec<usize>,
+    items: Vec<usize>,
+}
+
+impl BucketGrid {
+    fn build(bbox: [f64; 4], count: usize, item_bbox: impl Fn(usize) -> [f64; 4]) -> Self {
+        let [x0, y0, x1, y1] = bbox;
+        let w = (x1 - x0).max(f64::MIN_POSITIVE);
+        let h = (y1 - y0).max(f64::MIN_POSITIVE);
+        let target = count.max(1) as f64;
+        let nx = ((target * w / h).sqrt().ceil() as usize).clamp(1, 1 << 16);
+        let ny = ((target / nx as f64).ceil() as usize).clamp(1, 1 << 16);
+        let mut grid = BucketGrid {
+            x0,
+            y0,
+            cw: w / nx as f64,
+            ch: h / ny as f64,
+            nx,
+            ny,
+            start: vec![0; nx * ny + 1],
+            items: Vec::new(),
+        };
+        let ranges: Vec<[usize; 4]> = (0..count)
+            .map(|k| {
+                let b = item_bbox(k);
+                let (i0, j0) = grid.cell_of([b[0], b[1]]);
+                let (i1, j1) = grid.cell_of([b[2], b[3]]);
+                [i0, j0, i1, j1]
+            })
+            .collect();
+        for r in &ranges {
+            for j in r[1]..=r[3] {
+                for i in r[0]..=r[2] {
+                    grid.start[j * nx + i + 1] += 1;
+                }
+            }
+        }
+        for c in 0..nx * ny {
+            grid.start[c + 1] += grid.start[c];
+        }
+        let mut fill = grid.start.clone();
+        grid.items = vec![0; grid.start[nx * ny]];
+        for (k, r) in ranges.iter().enumerate() {
+            for j in r[1]..=r[3] {
+                for i in r[0]..=r[2] {
+                    let c = j * nx + i;
+                    grid.items[fill[c]] = k;
+                    fill[c] += 1;
+                }
+            }
+        }
+        grid
+    }
+
+    fn cell_of(&self, p: [f64; 2]) -> (usize, usize) {
+        let f = |v: f64, o: f64, s: f64, n: usize| {
+            let c = ((v - o) / s).floor();
+            if c.is_nan() || c < 0.0 {
+                0
+            } else if c >= n as f64 {
+                n - 1
+            } else {
+                c as usize
+            }
+        };
+        (
+            f(p[0], self.x0, self.cw, self.nx),
+            f(p[1], self.y0, self.ch, self.ny),
+        )
+    }
+
+    fn cell(&self, i: usize, j: usize) -> &[usize] {
+        let c = j * self.nx + i;
+        &self.items[self.start[c]..self.start[c + 1]]
+    }
+}
+
+/// The point of the mesh boundary nearest to a query point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoundaryPoint {
+    /// Index into `Mesh::boundary_edges`.
+    pub edge: usize,
+    /// Position along the edge from `nodes[0]` (0) to `nodes[1]` (1).
+    pub t: f64,
+    /// m
+    pub point: [f64; 2],
+    /// Distance from the query point, m.
+    pub distance: f64,
+}
+
+/// Where a point was found by [`Locator::place`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Placement {
+    /// Inside triangle `triangle` with these barycentric coordinates.
+    Inside {
+        triangle: usize,
+        barycentric: [f64; 3],
+    },
+    /// Just outside the discretised section (within the snap tolerance): evaluate at the
+    /// nearest boundary point.
+    Snapped(BoundaryPoint),
+    /// Farther outside; `distance` to the nearest boundary point, m (infinite without edges).
+    Outside { distance: f64 },
+}
+
+/// Point location in a mesh: bucket grids over triangle and boundary-edge bounding boxes, so a
+/// query costs O(1) for quality meshes, independent of the mesh size.
+#[derive(Debug, Clone)]
+pub struct Locator<'a> {
+    mesh: &'a Mesh,
+    triangles: BucketGrid,
+    edges: BucketGrid,
+    diameter: f64,
+}
+
+fn segment_bbox(p: [f64; 2], q: [f64; 2]) -> [f64; 4] {
+    [
+        p[0].min(q[0]),
+        p[1].min(q[1]),
+        p[0].max(q[0]),
+        p[1].max(q[1]),
+    ]
+}
+
+impl<'a> Locator<'a> {
+    /// Builds the grids, O(N). The mesh must have been checked ([`check_mesh`]).
+    pub fn new(mesh: &'a Mesh) -> Self {
+        let mut bbox = [
+            f64::INFINITY,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NEG_INFINITY,
+        ];
+        for p in &mesh.nodes {
+            bbox = [
+                bbox[0].min(p[0]),
+                bbox[1].min(p[1]),
+                bbox[2].max(p[0]),
+                bbox[3].max(p[1]),
+            ];
+        }
+        if mesh.nodes.is_empty() {
+            bbox = [0.0, 0.0, 1.0, 1.0];
+        }
+        let diameter = ((bbox[2] - bbox[0]).powi(2) + (bbox[3] - bbox[1]).powi(2)).sqrt();
+        let triangles = BucketGrid::build(bbox, mesh.triangles.len(), |t| {
+            let [a, b, c] = mesh.triangles[t];
+            let (pa, pb, pc) = (mesh.nodes[a], mesh.nodes[b], mesh.nodes[c]);
+            let s = segment_bbox(pa, pb);
+            [
+                s[0].min(pc[0]),
+                s[1].min(pc[1]),
+                s[2].max(pc[0]),
+                s[3].max(pc[1]),
+            ]
+        });
+        let edges = BucketGrid::build(bbox, mesh.boundary_edges.len(), |e| {
+            let [a, b] = mesh.boundary_edges[e].nodes;
+            segment_bbox(mesh.nodes[a], mesh.nodes[b])
+        });
+        Locator {
+            mesh,
+            triangles,
+            edges,
+            diameter,
+        }
+    }
+
+    /// Diagonal of the mesh's bounding box, m.
+    pub fn diameter(&self) -> f64 {
+        self.diameter
+    }
+
+    /// Barycentric coordinates of p in triangle t.
+    pub fn barycentric(&self, t: usize, p: [f64; 2]) -> [f64; 3] {
+        let ids = self.mesh.triangles[t];
+        let v = [
+            self.mesh.nodes[ids[0]],
+            self.mesh.nodes[ids[1]],
+            self.mesh.nodes[ids[2]],
+        ];
+        let twice_area = |a: [f64; 2], b: [f64; 2], c: [f64; 2]| {
+            (b[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (b[1] - a[1])
+        };
+        let total = twice_area(v[0], v[1], v[2]);
+        [
+            twice_area(p, v[1], v[2]) / total,
+            twice_area(v[0], p, v[2]) / total,
+            twice_area(v[0], v[1], p) / total,
+        ]
+    }
+
+    /// The triangle containing p (barycentric coordinates ≥ −[`INSIDE_TOLERANCE`]) and p's
+    /// barycentric coordinates in it. On a shared edge or vertex the triangle in which p lies
+    /// deepest wins (ties: lowest index).
+    pub fn locate(&self, p: [f64; 2]) -> Option<(usize, [f64; 3])> {
+        if !(p[0].is_finite() && p[1].is_finite()) {
+            return None;
+        }
+        let (i, j) = self.triangles.cell_of(p);
+        let mut best: Option<(usize, [f64; 3], f64)> = None;
+        for &t in self.triangles.cell(i, j) {
+            let l = self.barycentric(t, p);
+            let depth = l[0].min(l[1]).min(l[2]);
+            if depth >= -INSIDE_TOLERANCE && best.is_none_or(|b| depth > b.2) {
+                best = Some((t, l, depth));
+            }
+        }
+        best.map(|(t, l, _)| (t, l))
+    }
+
+    fn edge_point(&self, e: usize, p: [f64; 2]) -> BoundaryPoint {
+        let [a, b] = self.mesh.boundary_edges[e].nodes;
+        let (pa, pb) = (self.mesh.nodes[a], self.mesh.nodes[b]);
+        let d = [pb[0] - pa[0], pb[1] - pa[1]];
+        let len2 = d[0] * d[0] + d[1] * d[1];
+        let t = if len2 > 0.0 {
+            (((p[0] - pa[0]) * d[0] + (p[1] - pa[1]) * d[1]) / len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        let point = [pa[0] + t * d[0], pa[1] + t * d[1]];
+        let distance = ((p[0] - point[0]).powi(2) + (p[1] - point[1]).powi(2)).sqrt();
+        BoundaryPoint {
+            edge: e,
+            t,
+            point,
+            distance,
+        }
+    }
+
+    /// The nearest point on the mesh boundary (ties: lowest edge index); `None` without
+    /// boundary edges or for a non-finite p. Searches rings of buckets outwards and stops once
+    /// no unsearched bucket can hold a closer point.
+    pub fn nearest_boundary_point(&self, p: [f64; 2]) -> Option<BoundaryPoint> {
+        if self.mesh.boundary_edges.is_empty() || !(p[0].is_finite() && p[1].is_finite()) {
+            return None;
+        }
+        let g = &self.edges;
+        let (ci, cj) = g.cell_of(p);
+        let mut best: Option<BoundaryPoint> = None;
+        let consider = |e: usize, best: &mut Option<BoundaryPoint>| {
+            let q = self.edge_point(e, p);
+            if best
+                .is_none_or(|b| q.distance < b.distance || (q.distance == b.distance && e < b.edge))
+            {
+                *best = Some(q);
+            }
+        };
+        for k in 0usize.. {
+            let i0 = ci.saturating_sub(k);
+            let j0 = cj.saturating_sub(k);
+            let i1 = (ci + k).min(g.nx - 1);
+            let j1 = (cj + k).min(g.ny - 1);
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    // only the ring at Chebyshev distance k
+                    if i.abs_diff(ci) != k && j.abs_diff(cj) != k {
+                        continue;
+                    }
+                    for &e in g.cell(i, j) {
+                        consider(e, &mut best);
+                    }
+                }
+            }
+            // Lower bound on the distance to any bucket outside the searched block.
+            let mut bound = f64::INFINITY;
+            if ci > k {
+                bound = bound.min((p[0] - (g.x0 + i0 as f64 * g.cw)).max(0.0));
+            }
+            if ci + k < g.nx - 1 {
+                bound = bound.min((g.x0 + (i1 + 1) as f64 * g.cw - p[0]).max(0.0));
+            }
+            if cj > k {
+                bound = bound.min((p[1] - (g.y0 + j0 as f64 * g.ch)).max(0.0));
+            }
+            if cj + k < g.ny - 1 {
+                bound = bound.min((g.y0 + (j1 + 1) as f64 * g.ch - p[1]).max(0.0));
+            }
+            if bound == f64::INFINITY || best.is_some_and(|b| b.distance < bound) {
+                break;
+            }
+        }
+        best
+    }
+
+    /// Locates p with the snapping rule of probes and line samples: inside a triangle; else at
+    /// the nearest boundary point if it is within `max(sagitta, 1e-9 × diameter)` (sagitta of
+    /// the circle the nearest edge's ring was made from, 0 for polygons); else outside.
+    pub fn place(&self, section: &Section, p: [f64; 2]) -> Placement {
+        if let Some((triangle, barycentric)) = self.locate(p) {
+            return Placement::Inside {
+                triangle,
+                barycentric,
+            };
+        }
+        let Some(q) = self.nearest_boundary_point(p) else {
+            return Placement::Outside {
+                distance: f64::INFINITY,
+            };
+        };
+        let circle = match self.mesh.boundary_edges[q.edge].ring {
+            RingRef::Outline => section.outline.circle,
+            RingRef::Hole(i) => section.holes.get(i).and_then(|h| h.circle),
+        };
+        let ring_tolerance = circle.map_or(0.0, |c| c.sagitta());
+        let tolerance = ring_tolerance.max(SNAP_RELATIVE_TOLERANCE * self.diameter);
+        if q.distance <= tolerance {
+            Placement::Snapped(q)
+        } else {
+            Placement::Outside {
+                distance: q.distance,
+            }
+        }
+    }
+
+    /// Interpolates nodal values at a placement (`None` when outside).
+    pub fn interpolate<const D: usize>(
+        &self,
+        placement: &Placement,
+        values: &[[f64; D]],
+    ) -> Option<[f64; D]> {
+        let (ids, w): (Vec<usize>, Vec<f64>) = match *placement {
+            Placement::Inside {
+                triangle,
+                barycentric,
+            } => (self.mesh.triangles[triangle].to_vec(), barycentric.to_vec()),
+            Placement::Snapped(q) => (
+                self.mesh.boundary_edges[q.edge].nodes.to_vec(),
+                vec![1.0 - q.t, q.t],
+            ),
+            Placement::Outside { .. } => return None,
+        };
+        let mut out = [0.0; D];
+        for (&i, &wi) in ids.iter().zip(&w) {
+            for (o, v) in out.iter_mut().zip(&values[i]) {
+                *o += wi * v;
+            }
+        }
+        Some(out)
+    }
+}
+
+#[derive(Debug, Clone)]
+struct BoundaryAccumulator {
+    present: bool,
+    length: f64,
+    heat_flow: f64,
+    temperature_integral: f64,
+    min: f64,
+    max: f64,
+}
+
+impl BoundaryAccumulator {
+    fn new() -> Self {
+        BoundaryAccumulator {
+            present: false,
+            length: 0.0,
+            heat_flow: 0.0,
+            temperature_integral: 0.0,
+            min: f64::INFINITY,
+            max: f64::NEG_INFINITY,
+        }
+    }
+
+    fn add_edge(&mut self, length: f64, ta: f64, tb: f64) {
+        self.present = true;
+        self.length += length;
+        self.temperature_integral += 0.5 * length * (ta + tb);
+        self.min = self.min.min(ta).min(tb);
+        self.max = self.max.max(ta).max(tb);
+    }
+
+    fn result(&self, name: &str, kind: &str) -> BoundaryResult {
+        BoundaryResult {
+            name: name.to_string(),
+            kind: kind.to_string(),
+            length: self.length,
+            heat_flow: self.heat_flow,
+            mean_temperature: if self.length > 0.0 {
+                self.temperature_integral / self.length
+            } else {
+                0.5 * (self.min + self.max)
+            },
+            min_temperature: self.min,
+            max_temperature: self.max,
+        }
+    }
+}
+
+fn extreme(mesh: &Mesh, t: &[f64], better: impl Fn(f64, f64) -> bool) -> Extreme {
+    let mut node = 0;
+    for (i, &v) in t.iter().enumerate() {
+        if better(v, t[node]) {
+            node = i;
+        }
+    }
+    Extreme {
+        value: t[node],
+        node,
+        at: mesh.nodes[node],
+    }
+}
+
+/// Heat flow through each boundary edge set, positive into the section, W/m, in the order of
+/// [`Results::boundaries`].
+fn boundary_results(
+    section: &Section,
+    mesh: &Mesh,
+    system: &System,
+    temperature: &[f64],
+) -> Result<Vec<BoundaryResult>> {
+    let residual = system.residual(temperature)?;
+    let mut acc = vec![BoundaryAccumulator::new(); section.boundaries.len()];
+    let mut unnamed = BoundaryAccumulator::new();
+    // (node, boundary id, length) for both ends of every fixed edge.
+    let mut fixed_ends: Vec<(usize, usize, f64)> = Vec::new();
+    for e in &mesh.boundary_edges {
+        let l = mesh.edge_length(e);
+        let [a, b] = e.nodes;
+        let (ta, tb) = (temperature[a], temperature[b]);
+        let Some(id) = e.boundary else {
+            unnamed.add_edge(l, ta, tb);
+            continue;
+        };
+        acc[id].add_edge(l, ta, tb);
+        match section.boundaries[id].kind {
+            BoundaryKind::Fixed { .. } => {
+                fixed_ends.push((a, id, l));
+                fixed_ends.push((b, id, l));
+            }
+            BoundaryKind::Insulated => {}
+            BoundaryKind::Flux { flux } => acc[id].heat_flow += flux * l,
+            BoundaryKind::Convection { h, ambient } => {
+                acc[id].heat_flow += h * l * (ambient - 0.5 * (ta + tb));
+            }
+        }
+    }
+    // Reactions of fixed nodes, split between the fixed boundaries meeting at a node in
+    // proportion to the lengths of its adjacent fixed edges of each.
+    fixed_ends.sort_by_key(|x| (x.0, x.1));
+    let mut k = 0;
+    while k < fixed_ends.len() {
+        let node = fixed_ends[k].0;
+        let mut end = k;
+        let mut total = 0.0;
+        while end < fixed_ends.len() && fixed_ends[end].0 == node {
+            total += fixed_ends[end].2;
+            end += 1;
+        }
+        let r = residual[node];
+        let single = fixed_ends[k..end].iter().all(|x| x.1 == fixed_ends[k].1);
+        let mut m = k;
+        while m < end {
+            let id = fixed_ends[m].1;
+            let mut l = 0.0;
+            while m < end && fixed_ends[m].1 == id {
+                l += fixed_ends[m].2;
+                m += 1;
+            }
+            acc[id].heat_flow += if single { r } else { r * l / total };
+        }
+        k = end;
+    }
+    let mut out: Vec<BoundaryResult> = acc
+        .iter()
+        .zip(&section.boundaries)
+        .filter(|(a, _)| a.present)
+        .map(|(a, b)| a.result(&b.name, b.kind.name()))
+        .collect();
+    if unnamed.present {
+        out.push(unnamed.result("(unnamed)", "insulated"));
+    }
+    Ok(out)
+}
+
+/// Computes everything derived from a solved field; see [`Results`].
+pub fn postprocess(
+    section: &Section,
+    mesh: &Mesh,
+    system: &System,
+    solution: &Solution,
+) -> Result<Results> {
+    check_mesh(section, mesh)?;
+    let n = mesh.nodes.len();
+    let nt = mesh.triangles.len();
+    if system.node_count() != n
+        || solution.temperature.len() != n
+        || system.cell_source.len() != nt
+        || system.conductivity.len() != section.materials.len()
+    {
+        return Err(Error::run(
+            "internal error: mesh, system and solution disagree in size",
+        ));
+    }
+    let temperature = &solution.temperature;
+    if let Some(i) = temperature.iter().position(|v| !v.is_finite()) {
+        return Err(Error::run(format!(
+            "the solved temperature at node {i} is not finite"
+        )));
+    }
+
+    // Gradients and fluxes per triangle, recovered per node by area weighting.
+    let mut cell_gradient = Vec::with_capacity(nt);
+    let mut cell_flux = Vec::with_capacity(nt);
+    let mut sum = vec![[0.0f64; 4]; n];
+    let mut weight = vec![0.0f64; n];
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let g = TriangleGeometry::of(mesh, t);
+        let grad = g.gradient([
+            temperature[ids[0]],
+            temperature[ids[1]],
+            temperature[ids[2]],
+        ]);
+        let q = system.conductivity[mesh.material[t]].flux(grad);
+        for &v in ids {
+            let s = &mut sum[v];
+            s[0] += g.area * grad[0];
+            s[1] += g.area * grad[1];
+            s[2] += g.area * q[0];
+            s[3] += g.area * q[1];
+            weight[v] += g.area;
+        }
+        cell_gradient.push(grad);
+        cell_flux.push(q);
+    }
+    let mut nodal_gradient = Vec::with_capacity(n);
+    let mut nodal_flux = Vec::with_capacity(n);
+    for (s, &w) in sum.iter().zip(&weight) {
+        let w = if w > 0.0 { 1.0 / w } else { 0.0 };
+        nodal_gradient.push([s[0] * w, s[1] * w]);
+        nodal_flux.push([s[2] * w, s[3] * w]);
+    }
+
+    let boundaries = boundary_results(section, mesh, system, temperature)?;
+    let heat_source: f64 = system.cell_source.iter().sum();
+    let flow_sum: f64 = boundaries.iter().map(|b| b.heat_flow).sum();
+    let flow_abs: f64 = boundaries.iter().map(|b| b.heat_flow.abs()).sum();
+    let energy_imbalance = flow_sum + heat_source;
+    let denominator = flow_abs + heat_source.abs();
+    let energy_imbalance_relative = if denominator > 0.0 {
+        energy_imbalance.abs() / denominator
+    } else {
+        0.0
+    };
+
+    let t_min = extreme(mesh, temperature, |v, best| v < best);
+    let t_max = extreme(mesh, temperature, |v, best| v > best);
+
+    let mut warnings = Vec::new();
+    let locator = Locator::new(mesh);
+    let scalar: Vec<[f64; 1]> = temperature.iter().map(|&v| [v]).collect();
+
+    let mut probes = Vec::with_capacity(section.probes.len());
+    for (i, probe) in section.probes.iter().enumerate() {
+        let [x, y] = probe.at;
+        let placement = locator.place(section, probe.at);
+        let (at, snapped) = match placement {
+            Placement::Inside { .. } => (probe.at, false),
+            Placement::Snapped(q) => {
+                warnings.push(format!(
+                    "probes[{i}] \"{}\": point ({x}, {y}) lies {:e} m outside the discretised section; evaluated at the nearest boundary point ({}, {})",
+                    probe.name, q.distance, q.point[0], q.point[1]
+                ));
+                (q.point, true)
+            }
+            Placement::Outside { distance } => {
+                return Err(Error::input(format!(
+                    "probes[{i}] \"{}\": point ({x}, {y}) lies outside the section (nearest boundary point {distance} m away)",
+                    probe.name
+                )));
+            }
+        };
+        let [value] = locator
+            .interpolate(&placement, &scalar)
+            .ok_or_else(|| Error::run("internal error: probe placement"))?;
+        probes.push(ProbeResult {
+            name: probe.name.clone(),
+            at: probe.at,
+            x: at[0],
+            y: at[1],
+            temperature: value,
+            snapped,
+        });
+    }
+
+    let mut lines = Vec::with_capacity(section.lines.len());
+    for (i, line) in section.lines.iter().enumerate() {
+        let name = &line.name;
+        let finite = line.from.iter().chain(&line.to).all(|v| v.is_finite());
+        if line.samples == 0 || !finite {
+            return Err(Error::input(format!(
+                "lines[{i}] \"{name}\": needs finite end points and at least one sample"
+            )));
+        }
+        let d = [line.to[0] - line.from[0], line.to[1] - line.from[1]];
+        let length = (d[0] * d[0] + d[1] * d[1]).sqrt();
+        let mut samples = Vec::with_capacity(line.samples);
+        let mut skipped = Vec::new();
+        let mut snapped = 0usize;
+        let mut snapped_max = 0.0f64;
+        for k in 0..line.samples {
+            let f = if line.samples > 1 {
+                k as f64 / (line.samples - 1) as f64
+            } else {
+                0.0
+            };
+            let p = if k + 1 == line.samples && line.samples > 1 {
+                line.to
+            } else {
+                [line.from[0] + f * d[0], line.from[1] + f * d[1]]
+            };
+            let placement = locator.place(section, p);
+            if let Placement::Snapped(q) = placement {
+                snapped += 1;
+                snapped_max = snapped_max.max(q.distance);
+            }
+            let (Some([t]), Some([qx, qy])) = (
+                locator.interpolate(&placement, &scalar),
+                locator.interpolate(&placement, &nodal_flux),
+            ) else {
+                skipped.push((k, p));
+                continue;
+            };
+            samples.push(LineSample {
+                s: f * length,
+                x: p[0],
+                y: p[1],
+                temperature: t,
+                qx,
+                qy,
+            });
+        }
+        if samples.is_empty() {
+            return Err(Error::input(format!(
+                "lines[{i}] \"{name}\": none of its {} samples from ({}, {}) to ({}, {}) lies inside the section",
+                line.samples, line.from[0], line.from[1], line.to[0], line.to[1]
+            )));
+        }
+        if !skipped.is_empty() {
+            let (k0, p0) = skipped[0];
+            warnings.push(format!(
+                "lines[{i}] \"{name}\": {} of {} samples lie outside the section and were skipped (the first is sample {k0} at ({}, {}))",
+                skipped.len(),
+                line.samples,
+                p0[0],
+                p0[1]
+            ));
+        }
+        if snapped > 0 {
+            warnings.push(format!(
+                "lines[{i}] \"{name}\": {snapped} samples lie up to {snapped_max:e} m outside the discretised section and were evaluated at the nearest boundary point"
+            ));
+        }
+        lines.push(LineResult {
+            name: name.clone(),
+            samples,
+            skipped,
+        });
+    }
+
+    Ok(Results {
+        temperature: temperature.clone(),
+        cell_gradient,
+        cell_flux,
+        nodal_gradient,
+        nodal_flux,
+        boundaries,
+        heat_source,
+        energy_imbalance,
+        energy_imbalance_relative,
+        t_min,
+        t_max,
+        probes,
+        lines,
+        warnings,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fem::assemble;
+    use crate::fem::testutil::{rectangle_mesh, rectangle_section};
+    use crate::model::{Circle, Line, Probe};
+    use crate::solve::solve;
+
+    fn run(section: &Section, mesh: &Mesh) -> (System, Solution, Results) {
+        let system = assemble(section, mesh).unwrap();
+        let solution = solve(&system).unwrap();
+        let results = postprocess(section, mesh, &system, &solution).unwrap();
+        (system, solution, results)
+    }
+
+    fn flow(results: &Results, name: &str) -> f64 {
+        results
+            .boundaries
+            .iter()
+            .find(|b| b.name == name)
+            .unwrap_or_else(|| panic!("no boundary {name}"))
+            .heat_flow
+    }
+
+    fn rel(a: f64, b: f64) -> f64 {
+        (a - b).abs() / b.abs()
+    }
+
+    /// Slab 0 ≤ x ≤ 2 m, 0 ≤ y ≤ 0.5 m, k = 1.7, 100 °C at x = 0 ("hot"), 20 °C at x = 2
+    /// ("cold"), top and bottom unnamed (insulated).
+    fn slab() -> (Section, Mesh) {
+        let fixed = |t| BoundaryKind::Fixed { temperature: t };
+        let section = rectangle_section(
+            2.0,
+            0.5,
+            &[("steel", 1.7, 0.0)],
+            &[("cold", fixed(20.0)), ("hot", fixed(100.0))],
+            [None, Some(0), None, Some(1)],
+        );
+        let mesh = rectangle_mesh(2.0, 0.5, 8, 3, [None, Some(0), None, Some(1)], |_| 0);
+        (section, mesh)
+    }
+
+    #[test]
+    fn slab_with_fixed_ends_is_linear_and_obeys_fourier() {
+        let (section, mesh) = slab();
+        let (_, solution, results) = run(&section, &mesh);
+        // Fourier's law for a plane wall: T(x) = T0 + (T1 − T0)·x/L, Q = k·H·ΔT/L.
+        // P1 reproduces a linear field exactly, so the match is to round-off.
+        for (p, t) in mesh.nodes.iter().zip(&solution.temperature) {
+            assert!((t - (100.0 - 40.0 * p[0])).abs() < 1e-11, "{t} at {p:?}");
+        }
+        let expected = 1.7 * 0.5 * 80.0 / 2.0;
+        assert!(rel(flow(&results, "hot"), expected) < 1e-10);
+        assert!(rel(flow(&results, "cold"), -expected) < 1e-10);
+        for q in results.cell_flux.iter().chain(&results.nodal_flux) {
+            assert!(rel(q[0], 1.7 * 40.0) < 1e-10 && q[1].abs() < 1e-9);
+        }
+        let unnamed = results.boundaries.last().unwrap();
+        assert_eq!(
+            (unnamed.name.as_str(), unnamed.kind.as_str()),
+            ("(unnamed)", "insulated")
+        );
+        assert_eq!(unnamed.heat_flow, 0.0);
+        assert!(rel(unnamed.length, 4.0) < 1e-14);
+        // Mean of a linear trace along the insulated faces: (100 + 20)/2.
+        assert!(rel(unnamed.mean_temperature, 60.0) < 1e-12);
+        assert_eq!((results.t_max.value, results.t_max.node), (100.0, 0));
+        assert_eq!((results.t_min.value, results.t_min.node), (20.0, 8));
+        assert!(results.energy_imbalance_relative < 1e-12);
+        assert!(solution.residual_relative < 1e-12);
+    }
+
+    #[test]
+    fn two_layer_wall_with_films_matches_series_resistances() {
+        let (l1, l2, k1, k2, h1, h2, t1, t2, height) =
+            (0.3, 0.2, 0.8, 45.0, 10.0, 25.0, 20.0, -5.0, 0.6);
+        let section = rectangle_section(
+            l1 + l2,
+            height,
+            &[("brick", k1, 0.0), ("steel", k2, 0.0)],
+            &[
+                ("inside", BoundaryKind::Convection { h: h1, ambient: t1 }),
+                ("outside", BoundaryKind::Convection { h: h2, ambient: t2 }),
+            ],
+            [None, Some(1), None, Some(0)],
+        );
+        let mesh = rectangle_mesh(
+            l1 + l2,
+            height,
+            10,
+            4,
+            [None, Some(1), None, Some(0)],
+            |c| usize::from(c[0] > l1),
+        );
+        let (_, _, results) = run(&section, &mesh);
+        // Incropera, Fundamentals of Heat and Mass Transfer, ch. 3: series thermal resistances,
+        // q'' = ΔT / (1/h1 + L1/k1 + L2/k2 + 1/h2). Exact for P1: the field is piecewise linear
+        // with kinks on a mesh line, and the film terms see a constant trace.
+        let q = (t1 - t2) / (1.0 / h1 + l1 / k1 + l2 / k2 + 1.0 / h2);
+        assert!(rel(flow(&results, "inside"), q * height) < 1e-9);
+        assert!(rel(flow(&results, "outside"), -q * height) < 1e-9);
+        let inside = results
+            .boundaries
+            .iter()
+            .find(|b| b.name == "inside")
+            .unwrap();
+        // Surface temperature behind the inner film: T∞1 − q''/h1 (same source).
+        assert!(rel(inside.mean_temperature, t1 - q / h1) < 1e-9);
+        assert!(results.energy_imbalance_relative < 1e-12);
+    }
+
+    #[test]
+    fn wall_with_uniform_source_closes_the_energy_balance() {
+        let (l, height, k, q) = (1.0, 0.1, 2.0, 1000.0);
+        let fixed = BoundaryKind::Fixed { temperature: 0.0 };
+        let tags = [None, Some(1), None, Some(0)];
+        let section = rectangle_section(
+            l,
+            height,
+            &[("core", k, q)],
+            &[("left", fixed), ("right", fixed)],
+            tags,
+        );
+        let mesh = rectangle_mesh(l, height, 20, 2, tags, |_| 0);
+        let (_, solution, results) = run(&section, &mesh);
+        assert!(rel(results.heat_source, q * l * height) < 1e-14);
+        assert!(results.energy_imbalance_relative < 1e-12);
+        // Each face carries half the generated heat out of the section.
+        assert!(rel(flow(&results, "left"), -0.5 * q * l * height) < 1e-12);
+        // Incropera, ch. 3, plane wall with uniform generation and equal face temperatures:
+        // T(x) = Q·x·(L − x)/(2k), maximum Q·L²/(8k) at mid-plane.
+        // Observed: on this structured mesh the P1 solution is nodally exact (the discrete
+        // equations reduce to the 1D three-point scheme with exactly integrated uniform load,
+        // which is exact at the nodes for a quadratic), so the tolerance is round-off.
+        let t_max = q * l * l / (8.0 * k);
+        assert!(rel(results.t_max.value, t_max) < 1e-12);
+        assert!(rel(results.t_max.at[0], 0.5) < 1e-15);
+        for (p, t) in mesh.nodes.iter().zip(&solution.temperature) {
+            let exact = q * p[0] * (l - p[0]) / (2.0 * k);
+            assert!((t - exact).abs() < 1e-12 * t_max, "{t} vs {exact} at {p:?}");
+        }
+    }
+
+    #[test]
+    fn imposed_flux_flows_out_through_the_fixed_face() {
+        let (l, height, k, q) = (0.4, 0.3, 3.0, 250.0);
+        let tags = [None, Some(0), None, Some(1)];
+        let section = rectangle_section(
+            l,
+            height,
+            &[("m", k, 0.0)],
+            &[
+                ("cold", BoundaryKind::Fixed { temperature: 10.0 }),
+                ("heater", BoundaryKind::Flux { flux: q }),
+            ],
+            tags,
+        );
+        let mesh = rectangle_mesh(l, height, 5, 3, tags, |_| 0);
+        let (_, _, results) = run(&section, &mesh);
+        // Energy conservation: what enters through the heater leaves through the fixed face.
+        assert!(rel(flow(&results, "heater"), q * height) < 1e-14);
+        assert!(rel(flow(&results, "cold"), -q * height) < 1e-10);
+        // Fourier's law: the heated face sits q·L/k above the fixed one.
+        assert!(rel(results.t_max.value, 10.0 + q * l / k) < 1e-12);
+    }
+
+    #[test]
+    fn corner_reaction_is_split_by_adjacent_fixed_lengths() {
+        // Bottom fixed at 0 °C ("a"), left at 100 °C ("b"), top convective, right insulated;
+        // cells 0.25 m × 0.1 m, so the corner node's two fixed edges differ in length.
+        let tags = [Some(0), None, Some(2), Some(1)];
+        let section = rectangle_section(
+            1.0,
+            0.4,
+            &[("m", 1.3, 0.0)],
+            &[
+                ("a", BoundaryKind::Fixed { temperature: 0.0 }),
+                ("b", BoundaryKind::Fixed { temperature: 100.0 }),
+                (
+                    "c",
+                    BoundaryKind::Convection {
+                        h: 5.0,
+                        ambient: 20.0,
+                    },
+                ),
+            ],
+            tags,
+        );
+        let mesh = rectangle_mesh(1.0, 0.4, 4, 4, tags, |_| 0);
+        let (system, solution, results) = run(&section, &mesh);
+        // The corner takes the mean of the two fixed temperatures (the documented rule).
+        assert_eq!(solution.temperature[0], 50.0);
+        let r = system.residual(&solution.temperature).unwrap();
+        let (dx, dy) = (0.25, 0.1);
+        let bottom: f64 = (1..=4).map(|i| r[i]).sum();
+        let left: f64 = (1..=4).map(|j| r[j * 5]).sum();
+        assert!(
+            r[0].abs() > 1.0,
+            "corner reaction should be significant: {}",
+            r[0]
+        );
+        let a = bottom + r[0] * dx / (dx + dy);
+        let b = left + r[0] * dy / (dx + dy);
+        assert!(rel(flow(&results, "a"), a) < 1e-12);
+        assert!(rel(flow(&results, "b"), b) < 1e-12);
+        // Nothing is lost in the split: Σ fixed flows = Σ reactions at fixed nodes.
+        let total: f64 = (0..r.len())
+            .filter(|&i| system.fixed[i].is_some())
+            .map(|i| r[i])
+            .sum();
+        assert!(rel(flow(&results, "a") + flow(&results, "b"), total) < 1e-12);
+        assert!(results.energy_imbalance_relative < 1e-12);
+    }
+
+    fn probe(name: &str, x: f64, y: f64) -> Probe {
+        Probe {
+            name: name.into(),
+            at: [x, y],
+        }
+    }
+
+    #[test]
+    fn probes_inside_snapped_and_outside() {
+        let (mut section, mesh) = slab();
+        let diameter = (2.0f64 * 2.0 + 0.5 * 0.5).sqrt();
+        section.probes = vec![
+            probe("in", 0.77, 0.31),
+            probe("edge", -1e-12 * diameter, 0.2),
+        ];
+        let (_, _, results) = run(&section, &mesh);
+        // Linear exact field (Fourier's law, see the slab test) is reproduced by interpolation.
+        let p = &results.probes[0];
+        assert!(!p.snapped && rel(p.temperature, 100.0 - 40.0 * 0.77) < 1e-12);
+        let p = &results.probes[1];
+        assert!(p.snapped && rel(p.temperature, 100.0) < 1e-12);
+        assert_eq!((p.x, p.y), (0.0, 0.2));
+        assert_eq!(results.warnings.len(), 1);
+        assert!(results.warnings[0].starts_with("probes[1] \"edge\""));
+
+        section.probes.push(probe("far", -1.0, 0.2));
+        let system = assemble(&section, &mesh).unwrap();
+        let solution = solve(&system).unwrap();
+        let err = postprocess(&section, &mesh, &system, &solution).unwrap_err();
+        assert_eq!(
+            err,
+            Error::input(
+                "probes[2] \"far\": point (-1, 0.2) lies outside the section (nearest boundary point 1 m away)"
+            )
+        );
+    }
+
+    #[test]
+    fn probe_within_the_sagitta_of_a_circular_ring_is_snapped() {
+        let (mut section, mesh) = slab();
+        section.probes = vec![probe("p", -0.05, 0.2)];
+        let system = assemble(&section, &mesh).unwrap();
+        let solution = solve(&system).unwrap();
+        assert!(matches!(
+            postprocess(&section, &mesh, &system, &solution),
+            Err(Error::Input(_))
+        ));
+        // Pretend the outline was made from a circle: sagitta = 1 − cos(π/8) ≈ 0.076 m.
+        section.outline.circle = Some(Circle {
+            center: [1.0, 0.25],
+            radius: 1.0,
+            segments: 8,
+        });
+        let results = postprocess(&section, &mesh, &system, &solution).unwrap();
+        assert!(results.probes[0].snapped);
+        assert!(rel(results.probes[0].temperature, 100.0) < 1e-12);
+    }
+
+    #[test]
+    fn lines_skip_outside_samples_and_refuse_lines_entirely_outside() {
+        let (mut section, mesh) = slab();
+        section.lines = vec![Line {
+            name: "mid".into(),
+            from: [-0.5, 0.25],
+            to: [2.0, 0.25],
+            samples: 11,
+        }];
+        let (system, solution, results) = run(&section, &mesh);
+        let line = &results.lines[0];
+        assert_eq!(line.skipped, vec![(0, [-0.5, 0.25]), (1, [-0.25, 0.25])]);
+        assert_eq!(line.samples.len(), 9);
+        assert_eq!(results.warnings.len(), 1);
+        assert!(results.warnings[0].starts_with("lines[0] \"mid\": 2 of 11 samples"));
+        for s in &line.samples {
+            // Fourier's law (slab test): T linear, q = k·ΔT/L = 68 W/m² along +x.
+            assert!(rel(s.temperature, 100.0 - 40.0 * s.x) < 1e-12);
+            assert!(rel(s.qx, 68.0) < 1e-10 && s.qy.abs() < 1e-9);
+            assert!((s.s - (s.x + 0.5)).abs() < 1e-15);
+        }
+        section.lines.push(Line {
+            name: "away".into(),
+            from: [3.0, 0.0],
+            to: [4.0, 1.0],
+            samples: 5,
+        });
+        let err = postprocess(&section, &mesh, &system, &solution).unwrap_err();
+        assert!(
+            matches!(&err, Error::Input(m) if m.starts_with("lines[1] \"away\": none of its 5 samples"))
+        );
+    }
+
+    /// Deterministic pseudo-random numbers in [0, 1) (64-bit linear congruential generator).
+    fn lcg(state: &mut u64) -> f64 {
+        *state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (*state >> 11) as f64 / (1u64 << 53) as f64
+    }
+
+    #[test]
+    fn locator_agrees_with_brute_force() {
+        let mesh = rectangle_mesh(2.0, 1.0, 13, 7, [Some(0); 4], |_| 0);
+        let locator = Locator::new(&mesh);
+        let mut s = 7u64;
+        for _ in 0..2000 {
+            let p = [-1.0 + 4.0 * lcg(&mut s), -1.0 + 3.0 * lcg(&mut s)];
+            let brute = (0..mesh.triangles.len())
+                .map(|t| {
+                    let l = locator.barycentric(t, p);
+                    l[0].min(l[1]).min(l[2])
+                })
+                .fold(f64::NEG_INFINITY, f64::max);
+            match locator.locate(p) {
+                Some((t, l)) => {
+                    assert_eq!(l, locator.barycentric(t, p));
+                    assert_eq!(l[0].min(l[1]).min(l[2]), brute);
+                }
+                None => assert!(brute < -INSIDE_TOLERANCE),
+            }
+            let q = locator.nearest_boundary_point(p).unwrap();
+            let d = (0..mesh.boundary_edges.len())
+                .map(|e| locator.edge_point(e, p).distance)
+                .fold(f64::INFINITY, f64::min);
+            assert_eq!(q.distance, d);
+        }
+    }
+
+    #[test]
+    fn locator_buckets_stay_small_on_a_large_mesh() {
+        let mesh = rectangle_mesh(3.0, 1.0, 600, 300, [Some(0); 4], |_| 0);
+        let locator = Locator::new(&mesh);
+        let g = &locator.triangles;
+        let max = (0..g.nx * g.ny)
+            .map(|c| g.start[c + 1] - g.start[c])
+            .max()
+            .unwrap();
+        assert!(max <= 16, "largest bucket holds {max} triangles");
+        let (t, _) = locator.locate([1.2345, 0.6789]).unwrap();
+        assert!(
+            locator
+                .barycentric(t, [1.2345, 0.6789])
+                .iter()
+                .all(|&l| l >= 0.0)
+        );
+    }
+
+    /// About 10⁶ triangles through assembly, solve and post-processing (run with `--ignored`).
+    #[test]
+    #[ignore]
+    fn million_triangles_end_to_end() {
+        let tags = [Some(0), Some(1), Some(0), Some(1)];
+        let mut section = rectangle_section(
+            1.0,
+            1.0,
+            &[("m", 1.0, 10.0)],
+            &[
+                ("a", BoundaryKind::Fixed { temperature: 0.0 }),
+                (
+                    "b",
+                    BoundaryKind::Convection {
+                        h: 3.0,
+                        ambient: 5.0,
+                    },
+                ),
+            ],
+            tags,
+        );
+        section.probes = (0..1000)
+            .map(|i| probe(&format!("p{i}"), (i as f64 + 0.5) / 1000.0, 0.37))
+            .collect();
+        let mesh = rectangle_mesh(1.0, 1.0, 708, 708, tags, |_| 0);
+        let t = std::time::Instant::now();
+        let (_, solution, results) = run(&section, &mesh);
+        eprintln!("{} triangles: {:?}", mesh.triangles.len(), t.elapsed());
+        assert!(solution.residual_relative < 1e-10);
+        assert!(results.energy_imbalance_relative < 1e-10);
+    }
+}
