@@ -3,11 +3,21 @@
 use xsheat::model::{BoundaryFile, CircleFile, MaterialFile, ModelFile, RingFile};
 
 fn main() -> Result<(), xsheat::Error> {
-    let mat = |k: f64| MaterialFile { conductivity: k, heat_source: None };
-    let bc = |kind: &str, t: Option<f64>, h: Option<f64>| BoundaryFile {
-        kind: kind.into(), temperature: t, h, ambient: h.and(t), flux: None,
+    let mat = |k: f64| MaterialFile {
+        conductivity: k,
+        heat_source: None,
     };
-    let mut m = ModelFile { title: Some("heated floor strip (example)".into()), ..Default::default() };
+    let bc = |kind: &str, t: Option<f64>, h: Option<f64>| BoundaryFile {
+        kind: kind.into(),
+        temperature: t,
+        h,
+        ambient: h.and(t),
+        flux: None,
+    };
+    let mut m = ModelFile {
+        title: Some("heated floor strip (example)".into()),
+        ..Default::default()
+    };
     m.materials.insert("screed".into(), mat(1.3));
     m.materials.insert("insulation".into(), mat(0.035));
     m.outline = Some(RingFile {
@@ -22,13 +32,20 @@ fn main() -> Result<(), xsheat::Error> {
         ..Default::default()
     });
     m.holes.push(RingFile {
-        circle: Some(CircleFile { center: [0.075, 0.12], radius: 0.008, segments: Some(32) }),
+        circle: Some(CircleFile {
+            center: [0.075, 0.12],
+            radius: 0.008,
+            segments: Some(32),
+        }),
         boundary: Some("pipe".into()),
         ..Default::default()
     });
-    m.boundaries.insert("slab".into(), bc("fixed", Some(8.0), None));
-    m.boundaries.insert("room".into(), bc("convection", Some(20.0), Some(10.8)));
-    m.boundaries.insert("pipe".into(), bc("fixed", Some(35.0), None));
+    m.boundaries
+        .insert("slab".into(), bc("fixed", Some(8.0), None));
+    m.boundaries
+        .insert("room".into(), bc("convection", Some(20.0), Some(10.8)));
+    m.boundaries
+        .insert("pipe".into(), bc("fixed", Some(35.0), None));
     m.mesh.max_area = Some(2e-5);
 
     let solved = xsheat::run::solve(xsheat::run::prepare_model(m)?, &Default::default())?;

@@ -240,7 +240,10 @@ impl VertexPool {
         }
     }
     fn key(&self, p: [f64; 2]) -> (i64, i64) {
-        ((p[0] / self.cell).floor() as i64, (p[1] / self.cell).floor() as i64)
+        (
+            (p[0] / self.cell).floor() as i64,
+            (p[1] / self.cell).floor() as i64,
+        )
     }
     fn insert(&mut self, p: [f64; 2]) -> usize {
         let (kx, ky) = self.key(p);
@@ -250,7 +253,9 @@ impl VertexPool {
                 if let Some(list) = self.grid.get(&(kx + dx, ky + dy)) {
                     for &i in list {
                         let d = dist(self.points[i], p);
-                        if d <= self.tol && best.is_none_or(|(bd, bi)| d < bd || (d == bd && i < bi)) {
+                        if d <= self.tol
+                            && best.is_none_or(|(bd, bi)| d < bd || (d == bd && i < bi))
+                        {
                             best = Some((d, i));
                         }
                     }
@@ -321,7 +326,10 @@ fn contacts(s: &Seg, o: &Seg, tol: f64, out: &mut Vec<Contact>) {
     {
         let t = d3 / (d3 - d4);
         let u = d1 / (d1 - d2);
-        let p = [s.a[0] + t * (s.b[0] - s.a[0]), s.a[1] + t * (s.b[1] - s.a[1])];
+        let p = [
+            s.a[0] + t * (s.b[0] - s.a[0]),
+            s.a[1] + t * (s.b[1] - s.a[1]),
+        ];
         out.push(Contact::At { p, t1: t, t2: u });
     }
 }
@@ -436,7 +444,11 @@ pub fn build(section: &Section) -> Result<Pslg> {
         };
         match (s.ring, o.ring) {
             (RingId::Outline, RingId::Hole(h)) | (RingId::Hole(h), RingId::Outline) => {
-                let (hs, os) = if s.ring == RingId::Outline { (o, s) } else { (s, o) };
+                let (hs, os) = if s.ring == RingId::Outline {
+                    (o, s)
+                } else {
+                    (s, o)
+                };
                 return Err(Error::input(format!(
                     "holes[{h}]: ring crosses or touches the outline: its segment {} meets outline segment {} near {}",
                     written(section, hs.ring, hs.index),
@@ -543,10 +555,11 @@ pub fn build(section: &Section) -> Result<Pslg> {
                         let e = region_clipped.entry(r).or_insert((false, Vec::new()));
                         if outside {
                             e.0 = true;
-                        } else if let Some(h) = classifier.holes.iter().position(|h| h.contains(mid)) {
-                            if !e.1.contains(&h) {
-                                e.1.push(h);
-                            }
+                        } else if let Some(h) =
+                            classifier.holes.iter().position(|h| h.contains(mid))
+                            && !e.1.contains(&h)
+                        {
+                            e.1.push(h);
                         }
                     }
                 }
@@ -663,5 +676,8 @@ pub fn probe_tolerance(section: &Section, ring: RingId, tol: f64) -> f64 {
         RingId::Hole(i) => section.holes[i].circle,
         RingId::Region(_) => None,
     };
-    circle.map(|c| c.sagitta() * 1.000001).unwrap_or(0.0).max(tol)
+    circle
+        .map(|c| c.sagitta() * 1.000001)
+        .unwrap_or(0.0)
+        .max(tol)
 }

@@ -4,7 +4,7 @@ use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 use std::process::ExitCode;
 use xsheat::mesh::MeshOptions;
-use xsheat::{io, report, run, Error};
+use xsheat::{Error, io, report, run};
 
 #[derive(Parser)]
 #[command(
@@ -71,13 +71,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                 // Same refusal as `mesh` and `solve` would give.
                 run::mesh(&p, &o)?;
             }
-            let coarse = run::mesh(
-                &p,
-                &MeshOptions {
-                    refine: false,
-                    ..o
-                },
-            )?;
+            let coarse = run::mesh(&p, &MeshOptions { refine: false, ..o })?;
             print!("{}", report::check_report(&p, &coarse));
             eprint!("{}", report::warnings_report(&p.warnings()));
             println!("model is valid");

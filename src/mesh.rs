@@ -85,7 +85,7 @@ impl Mesh {
 use crate::error::{Error, Result};
 use crate::geometry::{self, Pslg, Zone};
 use crate::model::Section;
-use spade::handles::{FixedVertexHandle, InnerTag, FaceHandle};
+use spade::handles::{FaceHandle, FixedVertexHandle, InnerTag};
 use spade::{
     AngleLimit, CdtEdge, ConstrainedDelaunayTriangulation, Point2, RefinementParameters,
     Triangulation,
@@ -196,11 +196,7 @@ fn zone_left_of(pslg: &Pslg, piece: usize, a: [f64; 2], b: [f64; 2]) -> Zone {
     let p = &pslg.pieces[piece];
     let (pa, pb) = (pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]);
     let same = (b[0] - a[0]) * (pb[0] - pa[0]) + (b[1] - a[1]) * (pb[1] - pa[1]) > 0.0;
-    if same {
-        p.left
-    } else {
-        p.right
-    }
+    if same { p.left } else { p.right }
 }
 
 /// Mesh a section: PSLG → constrained Delaunay triangulation → refinement → classification.
@@ -248,7 +244,9 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
     }
     for (k, v) in cdt.vertices().enumerate() {
         if v.position() != verts[k] {
-            return Err(Error::run("internal: triangulation reordered the input vertices"));
+            return Err(Error::run(
+                "internal: triangulation reordered the input vertices",
+            ));
         }
     }
 
@@ -274,7 +272,14 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                 cdt.num_vertices() - verts.len(),
                 section.mesh.min_angle,
                 max_area,
-                if small.is_empty() { String::new() } else { format!(" ({} vertices have input angles below min_angle)", small.len()) }
+                if small.is_empty() {
+                    String::new()
+                } else {
+                    format!(
+                        " ({} vertices have input angles below min_angle)",
+                        small.len()
+                    )
+                }
             )));
         }
     }
@@ -313,7 +318,7 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                     return Err(Error::run(format!(
                         "internal: lost the constraint path of a segment near ({}, {})",
                         here.x, here.y
-                    )))
+                    )));
                 }
             }
             steps += 1;
@@ -370,7 +375,9 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                     None => {
                         // Convex hull edge that is not a constraint: outside the outline.
                         if let Some(Some(_)) = zone {
-                            return Err(Error::run("internal: material zone reaches the convex hull"));
+                            return Err(Error::run(
+                                "internal: material zone reaches the convex hull",
+                            ));
                         }
                         zone = zone.or(Some(None));
                     }
@@ -381,7 +388,9 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
     }
 
     // Kept triangles and node numbering (in triangulation vertex order).
-    let face_zone = |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| comp_zone[comp[f.fix().index()]];
+    let face_zone = |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| {
+        comp_zone[comp[f.fix().index()]]
+    };
     let mut node_of = vec![usize::MAX; cdt.num_vertices()];
     let mut kept_faces = Vec::new();
     for f in cdt.inner_faces() {
@@ -433,12 +442,19 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
             }
             let piece = edge_piece[e.as_undirected().fix().index()];
             if piece == u32::MAX {
-                return Err(Error::run("internal: section boundary edge is not a constraint"));
+                return Err(Error::run(
+                    "internal: section boundary edge is not a constraint",
+                ));
             }
             let p = &pslg.pieces[piece as usize];
-            let ring = p.ring.ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
+            let ring = p
+                .ring
+                .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
             boundary_edges.push(BoundaryEdge {
-                nodes: [node_of[e.from().fix().index()], node_of[e.to().fix().index()]],
+                nodes: [
+                    node_of[e.from().fix().index()],
+                    node_of[e.to().fix().index()],
+                ],
                 boundary: p.boundary,
                 triangle: tri_index[f.fix().index()],
                 ring,

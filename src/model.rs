@@ -371,12 +371,12 @@ fn build_ring(
         (Some(_), Some(_)) => {
             return Err(Error::input(format!(
                 "{label}: give either `points` or `circle`, not both"
-            )))
+            )));
         }
         (None, None) => {
             return Err(Error::input(format!(
                 "{label}: missing `points` or `circle`"
-            )))
+            )));
         }
         _ => {}
     }
@@ -422,12 +422,12 @@ fn build_ring(
                 c.radius
             )));
         }
-        if let Some(n) = c.segments {
-            if !(3..=1_000_000).contains(&n) {
-                return Err(Error::input(format!(
-                    "{label}: circle segments = {n} must lie in 3..=1000000"
-                )));
-            }
+        if let Some(n) = c.segments
+            && !(3..=1_000_000).contains(&n)
+        {
+            return Err(Error::input(format!(
+                "{label}: circle segments = {n} must lie in 3..=1000000"
+            )));
         }
         if r.edges.is_some() {
             return Err(Error::input(format!(
@@ -478,7 +478,9 @@ fn build_ring(
         None => vec![uniform; n],
     };
     // Drop zero-length segments (a point repeated consecutively).
-    let same = |a: [f64; 2], b: [f64; 2]| ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2)).sqrt() <= ctx.tol;
+    let same = |a: [f64; 2], b: [f64; 2]| {
+        ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2)).sqrt() <= ctx.tol
+    };
     let mut points = Vec::new();
     let mut edge_boundary = Vec::new();
     let mut written_segment = Vec::new();
@@ -534,11 +536,24 @@ fn build_ring(
         }
     }
     let area = signed_area(&points);
-    let scale = points
+    // All points on one line: no area. (A zero net area with points off the line is a ring
+    // that crosses itself; the geometry stage names the crossing segments.)
+    let far = points
         .iter()
-        .fold(0.0f64, |m, p| m.max(p[0].abs()).max(p[1].abs()))
-        .max(ctx.tol);
-    if area.abs() <= 1e-14 * scale * scale {
+        .copied()
+        .max_by(|a, b| {
+            let da = (a[0] - points[0][0]).hypot(a[1] - points[0][1]);
+            let db = (b[0] - points[0][0]).hypot(b[1] - points[0][1]);
+            da.total_cmp(&db)
+        })
+        .unwrap_or(points[0]);
+    let base = (far[0] - points[0][0]).hypot(far[1] - points[0][1]);
+    let off_line = points.iter().any(|p| {
+        let cross = (far[0] - points[0][0]) * (p[1] - points[0][1])
+            - (far[1] - points[0][1]) * (p[0] - points[0][0]);
+        cross.abs() / base > ctx.tol
+    });
+    if !off_line {
         return Err(Error::input(format!(
             "{label}: ring has no area (its points are collinear)"
         )));
@@ -587,11 +602,7 @@ fn check_kind_keys(name: &str, b: &BoundaryFile, allowed: &[&str]) -> Result<()>
 }
 
 fn require(name: &str, key: &str, v: Option<f64>, kind: &str) -> Result<f64> {
-    v.ok_or_else(|| {
-        Error::input(format!(
-            "boundaries.{name}: kind \"{kind}\" needs `{key}`"
-        ))
-    })
+    v.ok_or_else(|| Error::input(format!("boundaries.{name}: kind \"{kind}\" needs `{key}`")))
 }
 
 fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
@@ -636,7 +647,7 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
         other => {
             return Err(Error::input(format!(
                 "boundaries.{name}: unknown kind \"{other}\" (one of: fixed, insulated, flux, convection)"
-            )))
+            )));
         }
     };
     Ok(kind)
@@ -681,9 +692,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         });
     }
     let material_of = |label: &str, m: &Option<String>| -> Result<usize> {
-        let name = m.as_ref().ok_or_else(|| {
-            Error::input(format!("{label}: missing `material`"))
-        })?;
+        let name = m
+            .as_ref()
+            .ok_or_else(|| Error::input(format!("{label}: missing `material`")))?;
         material_ids.get(name).copied().ok_or_else(|| {
             Error::input(format!(
                 "{label}: material \"{name}\" is not defined under [materials] (defined: {})",
@@ -704,10 +715,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         });
     }
 
-    let outline_file = file
-        .outline
-        .as_ref()
-        .ok_or_else(|| Error::input("outline: missing [outline] table (the section's outer ring)"))?;
+    let outline_file = file.outline.as_ref().ok_or_else(|| {
+        Error::input("outline: missing [outline] table (the section's outer ring)")
+    })?;
     let outline_material = material_of("outline", &outline_file.material)?;
     for (i, h) in file.holes.iter().enumerate() {
         if h.material.is_some() {
@@ -724,8 +734,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
             "mesh: min_angle = {min_angle}° must lie in (0, {MAX_MIN_ANGLE}]: above {MAX_MIN_ANGLE}° Delaunay refinement may not terminate"
         )));
     }
-    let raw_section_area =
-        raw_area(outline_file) - file.holes.iter().map(raw_area).sum::<f64>();
+    let raw_section_area = raw_area(outline_file) - file.holes.iter().map(raw_area).sum::<f64>();
     let (max_area, max_area_is_default) = match file.mesh.max_area {
         Some(a) => {
             if !a.is_finite() || a <= 0.0 {
@@ -788,7 +797,11 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
             warnings.push(format!(
                 "{}: {} without a boundary name (insulated): {}",
                 ring.label,
-                if unnamed.len() == 1 { "segment" } else { "segments" },
+                if unnamed.len() == 1 {
+                    "segment"
+                } else {
+                    "segments"
+                },
                 if ring.circle.is_some() {
                     "the whole circle".to_string()
                 } else {
@@ -902,11 +915,7 @@ fn outline_extent(r: &RingFile) -> f64 {
         }
     }
     let d = ((hi[0] - lo[0]).powi(2) + (hi[1] - lo[1]).powi(2)).sqrt();
-    if d.is_finite() && d > 0.0 {
-        d
-    } else {
-        1.0
-    }
+    if d.is_finite() && d > 0.0 { d } else { 1.0 }
 }
 
 impl Section {

@@ -3,7 +3,7 @@
 
 use crate::mesh::{self, Mesh};
 use crate::model::{BoundaryKind, Ring, Section};
-use crate::run::{Prepared, Solved, CAUTION};
+use crate::run::{CAUTION, Prepared, Solved};
 use std::fmt::Write;
 
 fn ring_line(r: &Ring) -> String {
@@ -59,9 +59,16 @@ pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
         s.mesh.min_angle,
         mesh::estimate_triangles(area, s.mesh.max_area)
     );
-    let _ = writeln!(o, "materials (id, name, conductivity W/(m·K), heat source W/m³):");
+    let _ = writeln!(
+        o,
+        "materials (id, name, conductivity W/(m·K), heat source W/m³):"
+    );
     for m in &s.materials {
-        let _ = writeln!(o, "  {:>3}  {:<20} {:>10}  {}", m.id, m.name, m.conductivity, m.heat_source);
+        let _ = writeln!(
+            o,
+            "  {:>3}  {:<20} {:>10}  {}",
+            m.id, m.name, m.conductivity, m.heat_source
+        );
     }
     let _ = writeln!(
         o,
@@ -71,12 +78,21 @@ pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
         s.materials[s.outline_material].name
     );
     for r in &s.regions {
-        let _ = writeln!(o, "{}: {}, material {}", r.ring.label, ring_line(&r.ring), s.materials[r.material].name);
+        let _ = writeln!(
+            o,
+            "{}: {}, material {}",
+            r.ring.label,
+            ring_line(&r.ring),
+            s.materials[r.material].name
+        );
     }
     for h in &s.holes {
         let _ = writeln!(o, "{}: {}", h.label, ring_line(h));
     }
-    let _ = writeln!(o, "boundaries (name, condition, length on the rings as written):");
+    let _ = writeln!(
+        o,
+        "boundaries (name, condition, length on the rings as written):"
+    );
     for (id, b) in s.boundaries.iter().enumerate() {
         let len: f64 = std::iter::once(&s.outline)
             .chain(s.holes.iter())
@@ -113,11 +129,19 @@ pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
 pub fn mesh_report(s: &Section, m: &Mesh) -> String {
     let st = &m.stats;
     let mut o = String::new();
-    let _ = writeln!(o, "mesh: {} nodes, {} triangles, {} boundary edges", st.nodes, st.triangles, st.boundary_edges);
+    let _ = writeln!(
+        o,
+        "mesh: {} nodes, {} triangles, {} boundary edges",
+        st.nodes, st.triangles, st.boundary_edges
+    );
     let _ = writeln!(
         o,
         "min angle {:.3}° (limit {}°), worst triangle {} at ({:.6}, {:.6})",
-        st.min_angle_deg, s.mesh.min_angle, st.worst_triangle, st.worst_triangle_centroid[0], st.worst_triangle_centroid[1]
+        st.min_angle_deg,
+        s.mesh.min_angle,
+        st.worst_triangle,
+        st.worst_triangle_centroid[0],
+        st.worst_triangle_centroid[1]
     );
     let _ = writeln!(
         o,
@@ -125,7 +149,11 @@ pub fn mesh_report(s: &Section, m: &Mesh) -> String {
         st.min_area,
         st.max_area,
         s.mesh.max_area,
-        if s.mesh.max_area_is_default { ", default" } else { "" },
+        if s.mesh.max_area_is_default {
+            ", default"
+        } else {
+            ""
+        },
         st.area
     );
     if !st.small_input_angles.is_empty() {
@@ -135,7 +163,11 @@ pub fn mesh_report(s: &Section, m: &Mesh) -> String {
             st.small_input_angles.len()
         );
         for a in &st.small_input_angles {
-            let _ = writeln!(o, "  {:.3}° at ({:.6}, {:.6})", a.angle_deg, a.at[0], a.at[1]);
+            let _ = writeln!(
+                o,
+                "  {:.3}° at ({:.6}, {:.6})",
+                a.angle_deg, a.at[0], a.at[1]
+            );
         }
         let _ = writeln!(
             o,
@@ -170,7 +202,10 @@ pub fn solve_report(sv: &Solved) -> String {
         "temperature: min {:.4} °C at ({:.6}, {:.6}), max {:.4} °C at ({:.6}, {:.6})",
         r.t_min.value, r.t_min.at[0], r.t_min.at[1], r.t_max.value, r.t_max.at[0], r.t_max.at[1]
     );
-    let _ = writeln!(o, "heat flow per boundary (W per metre of depth, positive into the section):");
+    let _ = writeln!(
+        o,
+        "heat flow per boundary (W per metre of depth, positive into the section):"
+    );
     let _ = writeln!(
         o,
         "  {:<20} {:<11} {:>12} {:>16} {:>10} {:>10} {:>10}",
@@ -180,10 +215,20 @@ pub fn solve_report(sv: &Solved) -> String {
         let _ = writeln!(
             o,
             "  {:<20} {:<11} {:>12.6} {:>16.6} {:>10.4} {:>10.4} {:>10.4}",
-            b.name, b.kind, b.length, b.heat_flow, b.mean_temperature, b.min_temperature, b.max_temperature
+            b.name,
+            b.kind,
+            b.length,
+            b.heat_flow,
+            b.mean_temperature,
+            b.min_temperature,
+            b.max_temperature
         );
     }
-    let _ = writeln!(o, "  {:<20} {:<11} {:>12} {:>16.6}", "heat source", "", "", r.heat_source);
+    let _ = writeln!(
+        o,
+        "  {:<20} {:<11} {:>12} {:>16.6}",
+        "heat source", "", "", r.heat_source
+    );
     let _ = writeln!(
         o,
         "  energy imbalance {:.3e} W/m (relative {:.3e})",
@@ -199,7 +244,11 @@ pub fn solve_report(sv: &Solved) -> String {
                 p.x,
                 p.y,
                 p.temperature,
-                if p.snapped { "  (taken at the nearest boundary point)" } else { "" }
+                if p.snapped {
+                    "  (taken at the nearest boundary point)"
+                } else {
+                    ""
+                }
             );
         }
     }
@@ -218,7 +267,13 @@ pub fn solve_report(sv: &Solved) -> String {
             o,
             "  {:<18} {} ({})",
             c.name,
-            if c.passed { "pass" } else if c.severity == "error" { "FAIL" } else { "WARN" },
+            if c.passed {
+                "pass"
+            } else if c.severity == "error" {
+                "FAIL"
+            } else {
+                "WARN"
+            },
             c.detail
         );
     }

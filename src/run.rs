@@ -14,7 +14,7 @@ use std::path::Path;
 use std::time::Instant;
 
 /// The short caution printed with every solve and written into summary.json.
-pub const CAUTION: &str = "Results depend on the inputs and the model assumptions (steady state, 2D section, linear conduction, the boundary conditions given). They must be reviewed by a qualified engineer under local codes and licensed practice before use.";
+pub const CAUTION: &str = crate::io::CAUTION;
 
 /// Relative energy imbalance above which the self-check fails.
 pub const BALANCE_TOLERANCE: f64 = 1e-9;
@@ -187,7 +187,11 @@ pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Resu
     ];
     let has_source = section.materials.iter().any(|m| m.heat_source != 0.0);
     let used: Vec<usize> = {
-        let mut u: Vec<usize> = mesh.boundary_edges.iter().filter_map(|e| e.boundary).collect();
+        let mut u: Vec<usize> = mesh
+            .boundary_edges
+            .iter()
+            .filter_map(|e| e.boundary)
+            .collect();
         u.sort_unstable();
         u.dedup();
         u
@@ -227,10 +231,14 @@ pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Resu
             tolerance: tol,
             passed: excursion <= tol,
             severity: "warning".into(),
-            detail: format!(
-                "temperatures must lie within the fixed and ambient range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside at ({:.6}, {:.6})",
-                at[0], at[1]
-            ),
+            detail: if excursion > 0.0 {
+                format!(
+                    "temperatures must lie within the fixed and ambient range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside it at ({:.6}, {:.6})",
+                    at[0], at[1]
+                )
+            } else {
+                format!("all temperatures lie within the fixed and ambient range [{lo}, {hi}] °C")
+            },
         });
     }
     checks

@@ -37,7 +37,9 @@ at = [4.0, 2.5]
 "#;
 
 fn tmp(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("cli_errors").join(name);
+    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
+        .join("cli_errors")
+        .join(name);
     let _ = std::fs::remove_dir_all(&d);
     std::fs::create_dir_all(&d).unwrap();
     d
@@ -71,7 +73,13 @@ fn replace(from: &str, to: &str) -> String {
 fn base_model_solves() {
     let (code, err, out) = run_solve("base", BASE);
     assert_eq!(code, 0, "{err}");
-    for f in ["field.vtu", "nodes.csv", "probes.csv", "boundaries.csv", "summary.json"] {
+    for f in [
+        "field.vtu",
+        "nodes.csv",
+        "probes.csv",
+        "boundaries.csv",
+        "summary.json",
+    ] {
         assert!(out.join(f).is_file(), "{f} missing");
     }
 }
@@ -80,35 +88,174 @@ fn base_model_solves() {
 fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
     let holes_two = "[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n[[holes]]\ncircle = { center = [2.4, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n";
     let cases: Vec<(&str, String, &[&str])> = vec![
-        ("syntax", replace("conductivity = 1.7", "conductivity = = 1.7"), &["line 6"]),
-        ("unknown-key", replace("conductivity = 1.7", "conductivty = 1.7"), &["conductivty"]),
-        ("wrong-type", replace("conductivity = 1.7", "conductivity = \"high\""), &["conductivity"]),
-        ("unknown-material", replace("material = \"concrete\"", "material = \"steel\""), &["outline", "\"steel\""]),
-        ("unknown-boundary", replace("\"right\", \"top\"", "\"rigth\", \"top\""), &["outline: edges[1]", "\"rigth\""]),
-        ("unknown-kind", replace("kind = \"flux\"", "kind = \"fluxx\""), &["boundaries.right", "\"fluxx\""]),
-        ("edges-count", replace("\"top\", \"left\"]", "\"top\"]"), &["outline", "edges", "3 names", "4 segments"]),
-        ("two-points", replace("[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [0.0, 5.0]]\nedges = [\"base\", \"right\", \"top\", \"left\"]", "[[0.0, 0.0], [8.0, 0.0], [8.0, 0.0]]\nboundary = \"base\""), &["outline", "3 distinct points"]),
-        ("self-intersecting", replace("[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [0.0, 5.0]]", "[[0.0, 0.0], [8.0, 0.0], [0.0, 5.0], [8.0, 5.0]]"), &["outline", "intersects itself"]),
-        ("hole-outside", replace("center = [2.0, 2.0]", "center = [20.0, 2.0]"), &["holes[0]", "outside the outline"]),
-        ("hole-crossing", replace("center = [2.0, 2.0]", "center = [0.1, 2.0]"), &["holes[0]", "outline"]),
-        ("holes-overlapping", replace("[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n", holes_two), &["holes[1]", "holes[0]"]),
-        ("conductivity-zero", replace("conductivity = 1.7", "conductivity = 0.0"), &["materials.concrete", "conductivity"]),
-        ("conductivity-inf", replace("conductivity = 1.7", "conductivity = inf"), &["materials.concrete", "conductivity"]),
-        ("h-negative", replace("h = 15.0", "h = -1.0"), &["boundaries.top", "h = -1"]),
-        ("nan-coordinate", replace("[8.0, 5.0], [0.0, 5.0]]", "[8.0, nan], [0.0, 5.0]]"), &["outline: points[2]", "finite"]),
-        ("nan-temperature", replace("temperature = 10.0", "temperature = nan"), &["boundaries.base", "temperature"]),
-        ("below-absolute-zero", replace("temperature = 10.0", "temperature = -300.0"), &["boundaries.base", "absolute zero"]),
-        ("probe-outside", replace("at = [4.0, 2.5]", "at = [9.0, 2.5]"), &["probes[0]", "\"P1\"", "outside"]),
-        ("probe-in-hole", replace("at = [4.0, 2.5]", "at = [2.0, 2.0]"), &["probes[0]", "outside"]),
-        ("singular", BASE.replace("kind = \"fixed\"\ntemperature = 10.0", "kind = \"insulated\"").replace("kind = \"convection\"\nh = 15.0\nambient = 25.0", "kind = \"insulated\""), &["singular"]),
-        ("min-angle", replace("max_area = 0.05", "max_area = 0.05\nmin_angle = 35"), &["min_angle"]),
-        ("max-area-zero", replace("max_area = 0.05", "max_area = 0.0"), &["max_area"]),
-        ("too-many-triangles", replace("max_area = 0.05", "max_area = 1e-9"), &["max_area", "triangles", "--max-triangles"]),
-        ("circle-radius", replace("radius = 0.3", "radius = -0.3"), &["holes[0]", "radius"]),
-        ("points-and-circle", replace("circle = { center = [2.0, 2.0], radius = 0.3 }", "circle = { center = [2.0, 2.0], radius = 0.3 }\npoints = [[1.0, 1.0], [2.0, 1.0], [2.0, 2.0]]"), &["holes[0]", "points", "circle"]),
-        ("duplicate-probe", format!("{BASE}\n[[probes]]\nname = \"P1\"\nat = [5.0, 2.5]\n"), &["probes[1]", "duplicate"]),
-        ("line-outside", format!("{BASE}\n[[lines]]\nname = \"L\"\nfrom = [10.0, 0.0]\nto = [12.0, 0.0]\nsamples = 5\n"), &["lines[0]", "\"L\"", "no sample"]),
-        ("line-samples", format!("{BASE}\n[[lines]]\nname = \"L\"\nfrom = [1.0, 1.0]\nto = [3.0, 1.0]\nsamples = 1\n"), &["lines[0]", "samples"]),
+        (
+            "syntax",
+            replace("conductivity = 1.7", "conductivity = = 1.7"),
+            &["line 6"],
+        ),
+        (
+            "unknown-key",
+            replace("conductivity = 1.7", "conductivty = 1.7"),
+            &["conductivty"],
+        ),
+        (
+            "wrong-type",
+            replace("conductivity = 1.7", "conductivity = \"high\""),
+            &["conductivity"],
+        ),
+        (
+            "unknown-material",
+            replace("material = \"concrete\"", "material = \"steel\""),
+            &["outline", "\"steel\""],
+        ),
+        (
+            "unknown-boundary",
+            replace("\"right\", \"top\"", "\"rigth\", \"top\""),
+            &["outline: edges[1]", "\"rigth\""],
+        ),
+        (
+            "unknown-kind",
+            replace("kind = \"flux\"", "kind = \"fluxx\""),
+            &["boundaries.right", "\"fluxx\""],
+        ),
+        (
+            "edges-count",
+            replace("\"top\", \"left\"]", "\"top\"]"),
+            &["outline", "edges", "3 names", "4 segments"],
+        ),
+        (
+            "two-points",
+            replace(
+                "[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [0.0, 5.0]]\nedges = [\"base\", \"right\", \"top\", \"left\"]",
+                "[[0.0, 0.0], [8.0, 0.0], [8.0, 0.0]]\nboundary = \"base\"",
+            ),
+            &["outline", "3 distinct points"],
+        ),
+        (
+            "self-intersecting",
+            replace(
+                "[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [0.0, 5.0]]",
+                "[[0.0, 0.0], [8.0, 0.0], [0.0, 5.0], [8.0, 5.0]]",
+            ),
+            &["outline", "intersects itself"],
+        ),
+        (
+            "hole-outside",
+            replace("center = [2.0, 2.0]", "center = [20.0, 2.0]"),
+            &["holes[0]", "outside the outline"],
+        ),
+        (
+            "hole-crossing",
+            replace("center = [2.0, 2.0]", "center = [0.1, 2.0]"),
+            &["holes[0]", "outline"],
+        ),
+        (
+            "holes-overlapping",
+            replace(
+                "[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n",
+                holes_two,
+            ),
+            &["holes[1]", "holes[0]"],
+        ),
+        (
+            "conductivity-zero",
+            replace("conductivity = 1.7", "conductivity = 0.0"),
+            &["materials.concrete", "conductivity"],
+        ),
+        (
+            "conductivity-inf",
+            replace("conductivity = 1.7", "conductivity = inf"),
+            &["materials.concrete", "conductivity"],
+        ),
+        (
+            "h-negative",
+            replace("h = 15.0", "h = -1.0"),
+            &["boundaries.top", "h = -1"],
+        ),
+        (
+            "nan-coordinate",
+            replace("[8.0, 5.0], [0.0, 5.0]]", "[8.0, nan], [0.0, 5.0]]"),
+            &["outline: points[2]", "finite"],
+        ),
+        (
+            "nan-temperature",
+            replace("temperature = 10.0", "temperature = nan"),
+            &["boundaries.base", "temperature"],
+        ),
+        (
+            "below-absolute-zero",
+            replace("temperature = 10.0", "temperature = -300.0"),
+            &["boundaries.base", "absolute zero"],
+        ),
+        (
+            "probe-outside",
+            replace("at = [4.0, 2.5]", "at = [9.0, 2.5]"),
+            &["probes[0]", "\"P1\"", "outside"],
+        ),
+        (
+            "probe-in-hole",
+            replace("at = [4.0, 2.5]", "at = [2.0, 2.0]"),
+            &["probes[0]", "outside"],
+        ),
+        (
+            "singular",
+            BASE.replace(
+                "kind = \"fixed\"\ntemperature = 10.0",
+                "kind = \"insulated\"",
+            )
+            .replace(
+                "kind = \"convection\"\nh = 15.0\nambient = 25.0",
+                "kind = \"insulated\"",
+            ),
+            &["singular"],
+        ),
+        (
+            "min-angle",
+            replace("max_area = 0.05", "max_area = 0.05\nmin_angle = 35"),
+            &["min_angle"],
+        ),
+        (
+            "max-area-zero",
+            replace("max_area = 0.05", "max_area = 0.0"),
+            &["max_area"],
+        ),
+        (
+            "too-many-triangles",
+            replace("max_area = 0.05", "max_area = 1e-9"),
+            &["max_area", "triangles", "--max-triangles"],
+        ),
+        (
+            "circle-radius",
+            replace("radius = 0.3", "radius = -0.3"),
+            &["holes[0]", "radius"],
+        ),
+        (
+            "points-and-circle",
+            replace(
+                "circle = { center = [2.0, 2.0], radius = 0.3 }",
+                "circle = { center = [2.0, 2.0], radius = 0.3 }\npoints = [[1.0, 1.0], [2.0, 1.0], [2.0, 2.0]]",
+            ),
+            &["holes[0]", "points", "circle"],
+        ),
+        (
+            "duplicate-probe",
+            format!("{BASE}\n[[probes]]\nname = \"P1\"\nat = [5.0, 2.5]\n"),
+            &["probes[1]", "duplicate"],
+        ),
+        (
+            "line-outside",
+            format!(
+                "{BASE}\n[[lines]]\nname = \"L\"\nfrom = [10.0, 0.0]\nto = [12.0, 0.0]\nsamples = 5\n"
+            ),
+            &["lines[0]", "\"L\"", "no sample"],
+        ),
+        (
+            "line-samples",
+            format!(
+                "{BASE}\n[[lines]]\nname = \"L\"\nfrom = [1.0, 1.0]\nto = [3.0, 1.0]\nsamples = 1\n"
+            ),
+            &["lines[0]", "samples"],
+        ),
     ];
     for (case, model, needles) in cases {
         let (code, err, out) = run_solve(case, &model);
@@ -117,7 +264,11 @@ fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
             assert!(err.contains(n), "case {case}: stderr lacks {n:?}: {err}");
         }
         assert!(!out.exists(), "case {case}: output directory was created");
-        assert_eq!(err.lines().filter(|l| l.starts_with("error:")).count(), 1, "case {case}: {err}");
+        assert_eq!(
+            err.lines().filter(|l| l.starts_with("error:")).count(),
+            1,
+            "case {case}: {err}"
+        );
     }
 }
 

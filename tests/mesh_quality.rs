@@ -165,7 +165,11 @@ fn demo_sections_meet_the_quality_bounds() {
             path.display(),
             m.stats.min_angle_away_from_small_input_angles_deg
         );
-        assert!(m.stats.max_area <= s.mesh.max_area * (1.0 + 1e-9), "{}", path.display());
+        assert!(
+            m.stats.max_area <= s.mesh.max_area * (1.0 + 1e-9),
+            "{}",
+            path.display()
+        );
         let discretised = xsheat::mesh::section_area(s);
         assert!((m.stats.area - discretised).abs() <= 1e-9 * discretised);
     }
