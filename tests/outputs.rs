@@ -1,0 +1,231 @@
+//! Files of `xsheat solve` on the demo sections: presence, CSV headers with units, VTK read-back
+//! with vtkio (array names and lengths), and byte-identical output from two runs.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use vtkio::Vtk;
+use vtkio::model::{Attribute, DataSet, Piece};
+
+fn solve_into(model: &str, out: &Path) -> String {
+    let _ = std::fs::remove_dir_all(out);
+    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
+        .arg("solve")
+        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join(model))
+        .arg("--out")
+        .arg(out)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&o.stdout).to_string();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{stdout}{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    stdout
+}
+
+fn tmp(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
+        .join("outputs")
+        .join(name)
+}
+
+fn header(path: &Path) -> String {
+    std::fs::read_to_string(path)
+        .unwrap()
+        .lines()
+        .next()
+        .unwrap()
+        .to_string()
+}
+
+#[test]
+fn demo_outputs_are_complete_and_read_back() {
+    let out = tmp("dam");
+    let stdout = solve_into("geometry/gallery-dam.toml", &out);
+    assert!(stdout.contains("CAUTION"));
+    assert!(stdout.contains("qualified engineer"));
+    assert_eq!(header(&out.join("nodes.csv")), "node,x_m,y_m,temperature_c");
+    assert_eq!(
+        header(&out.join("probes.csv")),
+        "name,x_m,y_m,temperature_c"
+    );
+    assert_eq!(
+        header(&out.join("boundaries.csv")),
+        "name,kind,length_m,heat_flow_w_per_m,mean_temperature_c,min_temperature_c,max_temperature_c"
+    );
+    for line in ["lift-mid-height", "vertical-x2"] {
+        assert_eq!(
+            header(&out.join(format!("line-{line}.csv"))),
+            "s_m,x_m,y_m,temperature_c,qx_w_per_m2,qy_w_per_m2"
+        );
+    }
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    for key in [
+        "schema",
+        "version",
+        "units",
+        "nodes",
+        "triangles",
+        "min_angle_deg",
+        "materials",
+        "temperature",
+        "heat_flow_w_per_m",
+        "heat_source_w_per_m",
+        "energy_imbalance_w_per_m",
+        "probes",
+        "warnings",
+        "model",
+        "caution",
+        "run",
+    ] {
+        assert!(summary.get(key).is_some(), "summary.json lacks {key}");
+    }
+    let nodes = summary["nodes"].as_u64().unwrap() as usize;
+    let triangles = summary["triangles"].as_u64().unwrap() as usize;
+    // Heat flows in the summary sum with the source to zero (energy balance).
+    let total: f64 = summary["heat_flow_w_per_m"]
+        .as_object()
+        .unwrap()
+        .values()
+        .map(|v| v.as_f64().unwrap())
+        .sum::<f64>()
+        + summary["heat_source_w_per_m"].as_f64().unwrap();
+    assert!(total.abs() < 1e-8, "imbalance {total}");
+
+    // field.vtu read back with vtkio.
+    let vtk = Vtk::import(out.join("field.vtu")).expect("field.vtu reads back");
+    let DataSet::UnstructuredGrid { pieces, .. } = vtk.data else {
+        panic!("not an unstructured grid")
+    };
+    let Piece::Inline(piece) = pieces.into_iter().next().unwrap() else {
+        panic!("piece not inline")
+    };
+    assert_eq!(piece.num_points(), nodes);
+    assert_eq!(piece.cells.types.len(), triangles);
+    let shape = |attrs: &[Attribute]| -> Vec<(String, usize, usize)> {
+        attrs
+            .iter()
+            .map(|a| match a {
+                Attribute::DataArray(d) => (d.name.clone(), d.num_comp(), d.len()),
+                Attribute::Field { name, .. } => (name.clone(), 0, 0),
+            })
+            .collect()
+    };
+    let point = shape(&piece.data.point);
+    let cell = shape(&piece.data.cell);
+    for (name, comp) in [
+        ("temperature", 1),
+        ("heat_flux_nodal", 3),
+        ("gradient_nodal", 3),
+    ] {
+        assert!(
+            point.contains(&(name.to_string(), comp, comp * nodes)),
+            "{name}: {point:?}"
+        );
+    }
+    for (name, comp) in [("heat_flux", 3), ("gradient", 3), ("material", 1)] {
+        assert!(
+            cell.contains(&(name.to_string(), comp, comp * triangles)),
+            "{name}: {cell:?}"
+        );
+    }
+}
+
+fn without_run(summary: &[u8]) -> serde_json::Value {
+    let mut v: serde_json::Value = serde_json::from_slice(summary).unwrap();
+    v.as_object_mut().unwrap().remove("run");
+    v
+}
+
+#[test]
+fn two_runs_give_byte_identical_files() {
+    let (a, b) = (tmp("det-a"), tmp("det-b"));
+    solve_into("geometry/buried-pipes.toml", &a);
+    solve_into("geometry/buried-pipes.toml", &b);
+    let mut names: Vec<String> = std::fs::read_dir(&a)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+        .collect();
+    names.sort();
+    assert!(names.len() >= 7, "{names:?}");
+    for n in &names {
+        let (x, y) = (
+            std::fs::read(a.join(n)).unwrap(),
+            std::fs::read(b.join(n)).unwrap(),
+        );
+        if n == "summary.json" {
+            assert_eq!(without_run(&x), without_run(&y));
+        } else {
+            assert!(x == y, "{n} differs between runs");
+        }
+    }
+}
+
+#[test]
+fn solve_replaces_only_its_own_files() {
+    let out = tmp("keep");
+    let _ = std::fs::remove_dir_all(&out);
+    std::fs::create_dir_all(&out).unwrap();
+    std::fs::write(out.join("notes.txt"), "engineer's notes").unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
+        .arg("solve")
+        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/buried-pipes.toml"))
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    assert_eq!(
+        std::fs::read_to_string(out.join("notes.txt")).unwrap(),
+        "engineer's notes"
+    );
+    assert!(out.join("field.vtu").is_file());
+    let leftovers: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
+        .filter(|n| n.contains(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
+
+#[test]
+fn mesh_command_writes_a_vtu() {
+    let out = tmp("mesh");
+    let _ = std::fs::remove_dir_all(&out);
+    std::fs::create_dir_all(&out).unwrap();
+    let file = out.join("mesh.vtu");
+    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
+        .arg("mesh")
+        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/gallery-dam.toml"))
+        .arg("--out")
+        .arg(&file)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("min angle"), "{stdout}");
+    assert!(Vtk::import(&file).is_ok());
+}
+
+#[test]
+fn check_command_prints_the_model() {
+    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
+        .arg("check")
+        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/gallery-dam.toml"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    for s in [
+        "fresh-concrete",
+        "cooling-duct",
+        "gallery",
+        "model is valid",
+        "24 segments",
+    ] {
+        assert!(stdout.contains(s), "check output lacks {s}: {stdout}");
+    }
+}
