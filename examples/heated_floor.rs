@@ -5,19 +5,18 @@ use xsheat::model::{BoundaryFile, CircleFile, MaterialFile, ModelFile, RingFile}
 fn main() -> Result<(), xsheat::Error> {
     let mat = |k: f64| MaterialFile {
         conductivity: k,
-        heat_source: None,
+        ..Default::default()
     };
-    let bc = |kind: &str, t: Option<f64>, h: Option<f64>| BoundaryFile {
-        kind: kind.into(),
-        temperature: t,
-        h,
-        ambient: h.and(t),
-        flux: None,
+    let fixed = |t: f64| BoundaryFile {
+        kind: "fixed".into(),
+        temperature: Some(t),
+        ..Default::default()
     };
     let mut m = ModelFile {
         title: Some("heated floor strip (example)".into()),
         ..Default::default()
     };
+    m.mesh.max_area = Some(2e-5);
     m.materials.insert("screed".into(), mat(1.3));
     m.materials.insert("insulation".into(), mat(0.035));
     m.outline = Some(RingFile {
@@ -40,13 +39,15 @@ fn main() -> Result<(), xsheat::Error> {
         boundary: Some("pipe".into()),
         ..Default::default()
     });
-    m.boundaries
-        .insert("slab".into(), bc("fixed", Some(8.0), None));
-    m.boundaries
-        .insert("room".into(), bc("convection", Some(20.0), Some(10.8)));
-    m.boundaries
-        .insert("pipe".into(), bc("fixed", Some(35.0), None));
-    m.mesh.max_area = Some(2e-5);
+    m.boundaries.insert("slab".into(), fixed(8.0));
+    m.boundaries.insert("pipe".into(), fixed(35.0));
+    let room = BoundaryFile {
+        kind: "convection".into(),
+        h: Some(10.8),
+        ambient: Some(20.0),
+        ..Default::default()
+    };
+    m.boundaries.insert("room".into(), room);
 
     let solved = xsheat::run::solve(xsheat::run::prepare_model(m)?, &Default::default())?;
     print!("{}", xsheat::report::solve_report(&solved));

@@ -635,6 +635,7 @@ pub(crate) mod testutil {
                     name: name.into(),
                     conductivity,
                     heat_source,
+                    max_area: None,
                 })
                 .collect(),
             outline_material: 0,
@@ -652,6 +653,7 @@ pub(crate) mod testutil {
                 .map(|&(name, kind)| Boundary {
                     name: name.into(),
                     kind,
+                    size: None,
                 })
                 .collect(),
             probes: Vec::new(),

@@ -897,12 +897,14 @@ mod tests {
                     name: "concrete".into(),
                     conductivity: 1.6,
                     heat_source: 0.0,
+                    max_area: None,
                 },
                 Material {
                     id: 1,
                     name: "steel".into(),
                     conductivity: 50.0,
                     heat_source: 0.0,
+                    max_area: None,
                 },
             ],
             outline_material: 0,
@@ -913,10 +915,12 @@ mod tests {
                 Boundary {
                     name: "cold".into(),
                     kind: BoundaryKind::Fixed { temperature: 0.0 },
+                    size: None,
                 },
                 Boundary {
                     name: "warm".into(),
                     kind: BoundaryKind::Fixed { temperature: 20.0 },
+                    size: None,
                 },
             ],
             probes: vec![],

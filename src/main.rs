@@ -65,12 +65,6 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         } => {
             let p = run::prepare(&model)?;
             let o = opts(max_triangles)?;
-            let area = xsheat::mesh::section_area(&p.section);
-            let est = xsheat::mesh::estimate_triangles(area, p.section.mesh.max_area);
-            if est > o.max_triangles as f64 {
-                // Same refusal as `mesh` and `solve` would give.
-                run::mesh(&p, &o)?;
-            }
             let coarse = run::mesh(&p, &MeshOptions { refine: false, ..o })?;
             print!("{}", report::check_report(&p, &coarse));
             eprint!("{}", report::warnings_report(&p.warnings()));

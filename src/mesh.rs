@@ -199,100 +199,41 @@ fn zone_left_of(pslg: &Pslg, piece: usize, a: [f64; 2], b: [f64; 2]) -> Zone {
     if same { p.left } else { p.right }
 }
 
-/// Mesh a section: PSLG → constrained Delaunay triangulation → refinement → classification.
-pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh> {
-    let area = section_area(section);
-    let max_area = section.mesh.max_area;
-    let estimate = estimate_triangles(area, max_area);
-    if opts.refine && estimate > opts.max_triangles as f64 {
-        return Err(Error::input(format!(
-            "mesh: max_area = {max_area:e} m² would give about {:.0} triangles for a section of {area:.6e} m², above the limit of {}; raise max_area (at least {:.3e} m²) or pass --max-triangles",
-            estimate,
-            opts.max_triangles,
-            estimate_triangles(area, opts.max_triangles as f64)
-        )));
-    }
+/// A size field for adaptive refinement: the largest triangle area wanted at a point, m².
+pub trait SizeField {
+    fn max_area_at(&self, p: [f64; 2]) -> f64;
+}
 
-    // Only vertices that end a piece enter the triangulation.
-    let mut used = vec![false; pslg.vertices.len()];
-    for p in &pslg.pieces {
-        used[p.v[0]] = true;
-        used[p.v[1]] = true;
-    }
-    let used_list: Vec<usize> = (0..pslg.vertices.len()).filter(|&i| used[i]).collect();
-    let mut to_cdt = vec![usize::MAX; pslg.vertices.len()];
-    for (k, &i) in used_list.iter().enumerate() {
-        to_cdt[i] = k;
-    }
-    let verts: Vec<Point2<f64>> = used_list
-        .iter()
-        .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
-        .collect();
-    let edges: Vec<[usize; 2]> = pslg
-        .pieces
-        .iter()
-        .map(|p| [to_cdt[p.v[0]], to_cdt[p.v[1]]])
-        .collect();
-    let mut conflicts = Vec::new();
-    let mut cdt = Cdt::try_bulk_load_cdt(verts.clone(), edges, |e| conflicts.push(e))
-        .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
-    if !conflicts.is_empty() || cdt.num_vertices() != verts.len() {
-        return Err(Error::run(format!(
-            "internal: {} constraint conflicts while triangulating the segment set",
-            conflicts.len()
-        )));
-    }
-    for (k, v) in cdt.vertices().enumerate() {
-        if v.position() != verts[k] {
-            return Err(Error::run(
-                "internal: triangulation reordered the input vertices",
-            ));
-        }
-    }
+/// Triangles touching a boundary with a `size` have their longest edge at most this factor
+/// times the size.
+pub const BOUNDARY_SIZE_FACTOR: f64 = 1.5;
+/// Passes of "insert points where the size field asks, refine again" before giving up.
+const MAX_SIZE_PASSES: usize = 60;
 
-    let small = small_input_angles(pslg, &used_list, section.mesh.min_angle);
-    if opts.refine {
-        let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
-        for p in &verts {
-            lo = [lo[0].min(p.x), lo[1].min(p.y)];
-            hi = [hi[0].max(p.x), hi[1].max(p.y)];
-        }
-        let bbox_area = (hi[0] - lo[0]) * (hi[1] - lo[1]);
-        let budget = (3.0 * bbox_area / max_area).min(4.0 * opts.max_triangles as f64) as usize
-            + 50 * verts.len()
-            + 10_000;
-        let params = RefinementParameters::<f64>::new()
-            .with_angle_limit(AngleLimit::from_deg(section.mesh.min_angle))
-            .with_max_allowed_area(max_area)
-            .with_max_additional_vertices(budget);
-        let result = cdt.refine(params);
-        if !result.refinement_complete {
-            return Err(Error::run(format!(
-                "mesh refinement stopped after {} added vertices without meeting min_angle = {}° and max_area = {:e} m²; lower min_angle (e.g. 25), raise max_area, or remove very small input angles{}",
-                cdt.num_vertices() - verts.len(),
-                section.mesh.min_angle,
-                max_area,
-                if small.is_empty() {
-                    String::new()
-                } else {
-                    format!(
-                        " ({} vertices have input angles below min_angle)",
-                        small.len()
-                    )
-                }
-            )));
-        }
-    }
+/// A constraint edge handed to the triangulation: end vertices (triangulation indices) and the
+/// PSLG piece it lies on (a piece may be split in advance to honour a boundary `size`).
+struct Constraint {
+    a: usize,
+    b: usize,
+    piece: usize,
+}
 
-    // Map every constraint edge of the final triangulation to the piece it lies on, by walking
-    // from each piece's first vertex to its last along collinear constraint edges.
+/// Zones of the faces and the piece of every constraint edge of the current triangulation.
+struct Classified {
+    edge_piece: Vec<u32>,
+    /// Zone per face index (outer face and void faces: `None`).
+    face_zone: Vec<Zone>,
+}
+
+fn classify(cdt: &Cdt, pslg: &Pslg, cons: &[Constraint]) -> Result<Classified> {
+    // Map every constraint edge to the piece it lies on by walking from each constraint's first
+    // vertex to its last along collinear constraint edges (refinement splits constraints).
     let mut edge_piece = vec![u32::MAX; cdt.num_undirected_edges()];
-    for (pi, p) in pslg.pieces.iter().enumerate() {
-        let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
-        let pb = verts[b];
-        let mut cur = FixedVertexHandle::from_index(a);
+    for c in cons {
+        let pb = cdt.vertex(FixedVertexHandle::from_index(c.b)).position();
+        let mut cur = FixedVertexHandle::from_index(c.a);
         let mut steps = 0usize;
-        while cur.index() != b {
+        while cur.index() != c.b {
             let here = cdt.vertex(cur).position();
             let dir = [pb.x - here.x, pb.y - here.y];
             let dl = (dir[0] * dir[0] + dir[1] * dir[1]).sqrt();
@@ -304,14 +245,14 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                 let to = e.to().position();
                 let d = [to.x - here.x, to.y - here.y];
                 let l = (d[0] * d[0] + d[1] * d[1]).sqrt();
-                let c = (d[0] * dir[0] + d[1] * dir[1]) / (l * dl);
-                if best.as_ref().is_none_or(|(bc, _)| c > *bc) {
-                    best = Some((c, e));
+                let cos = (d[0] * dir[0] + d[1] * dir[1]) / (l * dl);
+                if best.as_ref().is_none_or(|(bc, _)| cos > *bc) {
+                    best = Some((cos, e));
                 }
             }
             match best {
-                Some((c, e)) if c > 1.0 - 1e-6 => {
-                    edge_piece[e.as_undirected().fix().index()] = pi as u32;
+                Some((cos, e)) if cos > 1.0 - 1e-6 => {
+                    edge_piece[e.as_undirected().fix().index()] = c.piece as u32;
                     cur = e.to().fix();
                 }
                 _ => {
@@ -354,10 +295,9 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                     match zone {
                         None => zone = Some(z),
                         Some(prev) if prev != z => {
-                            let p = e.from().position();
                             return Err(Error::run(format!(
                                 "internal: inconsistent zones around ({}, {})",
-                                p.x, p.y
+                                a.x, a.y
                             )));
                         }
                         _ => {}
@@ -373,7 +313,7 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
                         }
                     }
                     None => {
-                        // Convex hull edge that is not a constraint: outside the outline.
+                        // A convex-hull edge that is no constraint: outside the outline.
                         if let Some(Some(_)) = zone {
                             return Err(Error::run(
                                 "internal: material zone reaches the convex hull",
@@ -386,11 +326,269 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
         }
         comp_zone.push(zone.unwrap_or(None));
     }
+    let mut face_zone = vec![None; nfaces];
+    for f in cdt.inner_faces() {
+        let i = f.fix().index();
+        face_zone[i] = comp_zone[comp[i]];
+    }
+    Ok(Classified {
+        edge_piece,
+        face_zone,
+    })
+}
 
-    // Kept triangles and node numbering (in triangulation vertex order).
-    let face_zone = |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| {
-        comp_zone[comp[f.fix().index()]]
-    };
+fn tri_area(p: [Point2<f64>; 3]) -> f64 {
+    0.5 * ((p[1].x - p[0].x) * (p[2].y - p[0].y) - (p[2].x - p[0].x) * (p[1].y - p[0].y))
+}
+
+fn longest_edge(p: [Point2<f64>; 3]) -> f64 {
+    let d = |a: Point2<f64>, b: Point2<f64>| ((a.x - b.x).powi(2) + (a.y - b.y).powi(2)).sqrt();
+    d(p[0], p[1]).max(d(p[1], p[2])).max(d(p[2], p[0]))
+}
+
+/// Mesh a section: PSLG → constrained Delaunay triangulation → refinement → classification.
+pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh> {
+    build_with(section, pslg, opts, None)
+}
+
+/// Mesh a section with an optional size field (adaptive refinement) on top of the model's own
+/// limits: the global `max_area`, each material's `max_area`, each boundary's `size`.
+pub fn build_with(
+    section: &Section,
+    pslg: &Pslg,
+    opts: &MeshOptions,
+    field: Option<&dyn SizeField>,
+) -> Result<Mesh> {
+    let max_area = section.mesh.max_area;
+    let boundary_size = |b: Option<usize>| b.and_then(|id| section.boundaries[id].size);
+
+    // Only vertices that end a piece enter the triangulation; boundary pieces with a `size`
+    // are split in advance into equal parts no longer than the size.
+    let mut used = vec![false; pslg.vertices.len()];
+    for p in &pslg.pieces {
+        used[p.v[0]] = true;
+        used[p.v[1]] = true;
+    }
+    let used_list: Vec<usize> = (0..pslg.vertices.len()).filter(|&i| used[i]).collect();
+    let mut to_cdt = vec![usize::MAX; pslg.vertices.len()];
+    for (k, &i) in used_list.iter().enumerate() {
+        to_cdt[i] = k;
+    }
+    let mut verts: Vec<Point2<f64>> = used_list
+        .iter()
+        .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
+        .collect();
+    let mut cons = Vec::with_capacity(pslg.pieces.len());
+    for (pi, p) in pslg.pieces.iter().enumerate() {
+        let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
+        let size = if p.ring.is_some() {
+            boundary_size(p.boundary)
+        } else {
+            None
+        };
+        let (pa, pb) = (verts[a], verts[b]);
+        let len = ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt();
+        let parts = match size {
+            Some(s) => ((len / s).ceil() as usize).clamp(1, 10_000_000),
+            None => 1,
+        };
+        let mut prev = a;
+        for k in 1..parts {
+            let t = k as f64 / parts as f64;
+            verts.push(Point2::new(
+                pa.x + t * (pb.x - pa.x),
+                pa.y + t * (pb.y - pa.y),
+            ));
+            let v = verts.len() - 1;
+            cons.push(Constraint {
+                a: prev,
+                b: v,
+                piece: pi,
+            });
+            prev = v;
+        }
+        cons.push(Constraint {
+            a: prev,
+            b,
+            piece: pi,
+        });
+    }
+    let edges: Vec<[usize; 2]> = cons.iter().map(|c| [c.a, c.b]).collect();
+    let mut conflicts = Vec::new();
+    let mut cdt = Cdt::try_bulk_load_cdt(verts.clone(), edges, |e| conflicts.push(e))
+        .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
+    if !conflicts.is_empty() || cdt.num_vertices() != verts.len() {
+        return Err(Error::run(format!(
+            "internal: {} constraint conflicts while triangulating the segment set",
+            conflicts.len()
+        )));
+    }
+    for (k, v) in cdt.vertices().enumerate() {
+        if v.position() != verts[k] {
+            return Err(Error::run(
+                "internal: triangulation reordered the input vertices",
+            ));
+        }
+    }
+    let small = small_input_angles(pslg, &used_list, section.mesh.min_angle);
+
+    // Area limit of a triangle of a zone.
+    let zone_limit: Vec<f64> = pslg
+        .zone_material
+        .iter()
+        .map(|&m| {
+            section.materials[m]
+                .max_area
+                .map_or(max_area, |a| a.min(max_area))
+        })
+        .collect();
+
+    let mut classified = classify(&cdt, pslg, &cons)?;
+    {
+        // Estimate the final size from the zones' areas and limits, and the sized boundaries.
+        let mut estimate = 0.0;
+        for f in cdt.inner_faces() {
+            if let Some(z) = classified.face_zone[f.fix().index()] {
+                estimate += estimate_triangles(tri_area(f.positions()), zone_limit[z]);
+            }
+        }
+        for c in &cons {
+            let p = &pslg.pieces[c.piece];
+            if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
+                let (pa, pb) = (verts[c.a], verts[c.b]);
+                estimate += 4.0 * ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt() / s;
+            }
+        }
+        if estimate > opts.max_triangles as f64 {
+            let area = section_area(section);
+            return Err(Error::input(format!(
+                "mesh: max_area = {max_area:e} m² (with the materials' max_area and boundaries' size) would give about {estimate:.0} triangles for a section of {area:.6e} m², above the limit of {}; raise max_area (at least {:.3e} m² if uniform) or pass --max-triangles",
+                opts.max_triangles,
+                estimate_triangles(area, opts.max_triangles as f64)
+            )));
+        }
+    }
+    if opts.refine {
+        let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+        for p in &verts {
+            lo = [lo[0].min(p.x), lo[1].min(p.y)];
+            hi = [hi[0].max(p.x), hi[1].max(p.y)];
+        }
+        let bbox_area = (hi[0] - lo[0]) * (hi[1] - lo[1]);
+        let mut pass = 0;
+        loop {
+            let budget = (3.0 * bbox_area / max_area).min(4.0 * opts.max_triangles as f64) as usize
+                + 4 * cdt.num_vertices()
+                + 50 * verts.len()
+                + 10_000;
+            let params = RefinementParameters::<f64>::new()
+                .with_angle_limit(AngleLimit::from_deg(section.mesh.min_angle))
+                .with_max_allowed_area(max_area)
+                .with_max_additional_vertices(budget);
+            let before = cdt.num_vertices();
+            let result = cdt.refine(params);
+            if !result.refinement_complete {
+                return Err(Error::run(format!(
+                    "mesh refinement stopped after {} added vertices without meeting min_angle = {}° and max_area = {:e} m²; lower min_angle (e.g. 25), raise max_area, or remove very small input angles{}",
+                    cdt.num_vertices() - before,
+                    section.mesh.min_angle,
+                    max_area,
+                    if small.is_empty() {
+                        String::new()
+                    } else {
+                        format!(
+                            " ({} vertices have input angles below min_angle)",
+                            small.len()
+                        )
+                    }
+                )));
+            }
+            classified = classify(&cdt, pslg, &cons)?;
+
+            // Vertices on sized boundaries: the smallest size there.
+            let mut vertex_size = vec![f64::INFINITY; cdt.num_vertices()];
+            let any_size = section.boundaries.iter().any(|b| b.size.is_some());
+            if any_size {
+                for e in cdt.undirected_edges() {
+                    let piece = classified.edge_piece[e.fix().index()];
+                    if piece == u32::MAX {
+                        continue;
+                    }
+                    let p = &pslg.pieces[piece as usize];
+                    if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
+                        for v in e.vertices() {
+                            let i = v.fix().index();
+                            vertex_size[i] = vertex_size[i].min(s);
+                        }
+                    }
+                }
+            }
+            // Triangles that the size controls still find too large get a point at their
+            // centroid; refinement then restores the angle bound around it.
+            let mut inserts = Vec::new();
+            for f in cdt.inner_faces() {
+                let Some(z) = classified.face_zone[f.fix().index()] else {
+                    continue;
+                };
+                let p = f.positions();
+                let c = Point2::new(
+                    (p[0].x + p[1].x + p[2].x) / 3.0,
+                    (p[0].y + p[1].y + p[2].y) / 3.0,
+                );
+                let mut limit = zone_limit[z];
+                if let Some(field) = field {
+                    limit = limit.min(field.max_area_at([c.x, c.y]));
+                }
+                let mut split = tri_area(p) > limit * (1.0 + 1e-12);
+                if !split && any_size {
+                    let s = f
+                        .vertices()
+                        .iter()
+                        .map(|v| vertex_size[v.fix().index()])
+                        .fold(f64::INFINITY, f64::min);
+                    split = s.is_finite() && longest_edge(p) > BOUNDARY_SIZE_FACTOR * s;
+                }
+                if split {
+                    inserts.push(c);
+                }
+            }
+            if inserts.is_empty() {
+                break;
+            }
+            pass += 1;
+            if pass > MAX_SIZE_PASSES {
+                return Err(Error::run(format!(
+                    "local size control did not settle after {MAX_SIZE_PASSES} passes ({} triangles still too large); check the materials' max_area and boundaries' size",
+                    inserts.len()
+                )));
+            }
+            if cdt.num_vertices() + inserts.len() > 2 * opts.max_triangles + verts.len() {
+                return Err(Error::input(format!(
+                    "mesh: the size controls ask for more than the limit of {} triangles; raise the sizes or pass --max-triangles",
+                    opts.max_triangles
+                )));
+            }
+            for c in inserts {
+                cdt.insert(c)
+                    .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
+            }
+        }
+    }
+    extract(section, pslg, &cdt, &classified, &small, &to_cdt)
+}
+
+/// Turn the classified triangulation into a [`Mesh`].
+fn extract(
+    section: &Section,
+    pslg: &Pslg,
+    cdt: &Cdt,
+    cl: &Classified,
+    small: &[(usize, f64)],
+    to_cdt: &[usize],
+) -> Result<Mesh> {
+    let _ = section;
+    let face_zone =
+        |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| cl.face_zone[f.fix().index()];
     let mut node_of = vec![usize::MAX; cdt.num_vertices()];
     let mut kept_faces = Vec::new();
     for f in cdt.inner_faces() {
@@ -413,7 +611,7 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
             nodes.push([p.x, p.y]);
         }
     }
-    let mut tri_index = vec![usize::MAX; nfaces];
+    let mut tri_index = vec![usize::MAX; cdt.num_all_faces()];
     let mut triangles = Vec::with_capacity(kept_faces.len());
     let mut material = Vec::with_capacity(kept_faces.len());
     for (t, f) in kept_faces.iter().enumerate() {
@@ -424,7 +622,7 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
             node_of[vs[1].fix().index()],
             node_of[vs[2].fix().index()],
         ]);
-        let zone = face_zone(*f).expect("kept faces have a zone");
+        let zone = face_zone(*f).ok_or_else(|| Error::run("internal: kept face without zone"))?;
         material.push(pslg.zone_material[zone]);
     }
     // Boundary edges: edges of kept faces whose other side is not kept.
@@ -440,7 +638,7 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
             if other_kept {
                 continue;
             }
-            let piece = edge_piece[e.as_undirected().fix().index()];
+            let piece = cl.edge_piece[e.as_undirected().fix().index()];
             if piece == u32::MAX {
                 return Err(Error::run(
                     "internal: section boundary edge is not a constraint",
@@ -463,16 +661,13 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
     }
 
     // Quality statistics.
-    let small_nodes: Vec<bool> = {
-        let mut v = vec![false; nodes.len()];
-        for &(pv, _) in &small {
-            let n = node_of[to_cdt[pv]];
-            if n != usize::MAX {
-                v[n] = true;
-            }
+    let mut small_nodes = vec![false; nodes.len()];
+    for &(pv, _) in small {
+        let n = node_of[to_cdt[pv]];
+        if n != usize::MAX {
+            small_nodes[n] = true;
         }
-        v
-    };
+    }
     let mut stats = MeshStats {
         nodes: nodes.len(),
         triangles: triangles.len(),

@@ -54,7 +54,7 @@ pub struct MeshFile {
     pub min_angle: Option<f64>,
 }
 
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default)]
 #[serde(deny_unknown_fields)]
 pub struct MaterialFile {
     /// W/(m·K)
@@ -62,6 +62,9 @@ pub struct MaterialFile {
     /// W/m³
     #[serde(default)]
     pub heat_source: Option<f64>,
+    /// m²: largest triangle in this material (local size control); default: the mesh's.
+    #[serde(default)]
+    pub max_area: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize, Default)]
@@ -84,7 +87,7 @@ pub struct CircleFile {
 
 /// A boundary condition as written. Kept flat so that a key that does not belong to the kind
 /// can be named in the error message.
-#[derive(Debug, Clone, Deserialize, Serialize)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default)]
 #[serde(deny_unknown_fields)]
 pub struct BoundaryFile {
     pub kind: String,
@@ -92,6 +95,8 @@ pub struct BoundaryFile {
     pub h: Option<f64>,
     pub ambient: Option<f64>,
     pub flux: Option<f64>,
+    /// m: target edge length of the mesh along this boundary (local size control).
+    pub size: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -144,6 +149,8 @@ pub struct Boundary {
     pub name: String,
     #[serde(flatten)]
     pub kind: BoundaryKind,
+    /// Target mesh edge length along the boundary, m.
+    pub size: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -155,6 +162,8 @@ pub struct Material {
     pub conductivity: f64,
     /// W/m³
     pub heat_source: f64,
+    /// Largest triangle in this material, m² (`None`: the mesh's `max_area`).
+    pub max_area: Option<f64>,
 }
 
 /// The circle a ring was made from, kept for the boundary discretisation error (sagitta).
@@ -434,7 +443,20 @@ fn build_ring(
                 "{label}: `edges` needs `points`; name a circle's boundary with `boundary = \"...\"`"
             )));
         }
-        let n = circle_segments(c.radius, ctx.max_area, c.segments);
+        // A boundary `size` on the circle's boundary refines its polygon too.
+        let size = r
+            .boundary
+            .as_ref()
+            .and_then(|b| ctx.boundaries.get(b))
+            .and_then(|b| b.size)
+            .filter(|s| s.is_finite() && *s > 0.0);
+        let mut n = circle_segments(c.radius, ctx.max_area, c.segments);
+        if let (Some(s), None) = (size, c.segments) {
+            let k = (2.0 * std::f64::consts::PI * c.radius / s).ceil();
+            if k.is_finite() && k as usize > n {
+                n = (k as usize).min(1_000_000);
+            }
+        }
         let pts = (0..n)
             .map(|k| {
                 let a = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
@@ -683,12 +705,20 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
                 "materials.{name}: heat_source = {q} W/m³ is not a finite number"
             )));
         }
+        if let Some(a) = m.max_area
+            && (!a.is_finite() || a <= 0.0)
+        {
+            return Err(Error::input(format!(
+                "materials.{name}: max_area = {a} m² must be a positive finite number"
+            )));
+        }
         material_ids.insert(name.clone(), i);
         materials.push(Material {
             id: i,
             name: name.clone(),
             conductivity: m.conductivity,
             heat_source: q,
+            max_area: m.max_area,
         });
     }
     let material_of = |label: &str, m: &Option<String>| -> Result<usize> {
@@ -708,10 +738,18 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let mut boundary_ids = BTreeMap::new();
     for (i, (name, b)) in file.boundaries.iter().enumerate() {
         let kind = validate_boundary(name, b)?;
+        if let Some(h) = b.size
+            && (!h.is_finite() || h <= 0.0)
+        {
+            return Err(Error::input(format!(
+                "boundaries.{name}: size = {h} m must be a positive finite number"
+            )));
+        }
         boundary_ids.insert(name.clone(), i);
         boundaries.push(Boundary {
             name: name.clone(),
             kind,
+            size: b.size,
         });
     }
 

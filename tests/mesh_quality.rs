@@ -175,3 +175,92 @@ fn demo_sections_meet_the_quality_bounds() {
     }
     assert!(n >= 2);
 }
+
+#[test]
+fn local_size_control_by_material_and_boundary() {
+    // Fine near a pipe (boundary size 0.01 m) and in a backfill layer (max_area 0.002 m²),
+    // coarse elsewhere (0.05 m²).
+    let text = r#"
+[mesh]
+max_area = 0.05
+min_angle = 28
+[materials.backfill]
+conductivity = 0.9
+max_area = 0.002
+[materials.soil]
+conductivity = 1.4
+[outline]
+material = "soil"
+points = [[-3.0, -4.0], [3.0, -4.0], [3.0, 0.0], [-3.0, 0.0]]
+edges = ["deep", "side", "surface", "side"]
+[[regions]]
+material = "backfill"
+points = [[-0.8, -2.0], [0.8, -2.0], [0.8, -0.5], [-0.8, -0.5]]
+[[holes]]
+circle = { center = [1.8, -1.5], radius = 0.1 }
+boundary = "pipe"
+[boundaries.pipe]
+kind = "fixed"
+temperature = 60.0
+size = 0.01
+[boundaries.deep]
+kind = "fixed"
+temperature = 9.0
+[boundaries.surface]
+kind = "convection"
+h = 20.0
+ambient = 0.0
+[boundaries.side]
+kind = "insulated"
+"#;
+    let p = prepare(text);
+    let s = &p.section;
+    // The pipe's polygon follows the size: ⌈2π·0.1/0.01⌉ = 63 segments.
+    assert_eq!(s.holes[0].len(), 63);
+    let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+    let backfill = s
+        .materials
+        .iter()
+        .position(|x| x.name == "backfill")
+        .unwrap();
+    let pipe = s.boundaries.iter().position(|b| b.name == "pipe").unwrap();
+    let mut on_pipe = vec![false; m.nodes.len()];
+    for e in &m.boundary_edges {
+        if e.boundary == Some(pipe) {
+            on_pipe[e.nodes[0]] = true;
+            on_pipe[e.nodes[1]] = true;
+            assert!(m.edge_length(e) <= 0.01 * (1.0 + 1e-9));
+        }
+    }
+    let mut touching = 0;
+    for (t, tri) in m.triangles.iter().enumerate() {
+        let a = m.triangle_area(t);
+        if m.material[t] == backfill {
+            assert!(a <= 0.002 * (1.0 + 1e-9), "backfill triangle {t} area {a}");
+        }
+        assert!(a <= 0.05 * (1.0 + 1e-9));
+        if tri.iter().any(|&n| on_pipe[n]) {
+            touching += 1;
+            let p: Vec<[f64; 2]> = tri.iter().map(|&n| m.nodes[n]).collect();
+            let l = (0..3)
+                .map(|k| {
+                    let (a, b) = (p[k], p[(k + 1) % 3]);
+                    ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2)).sqrt()
+                })
+                .fold(0.0, f64::max);
+            assert!(
+                l <= xsheat::mesh::BOUNDARY_SIZE_FACTOR * 0.01 * (1.0 + 1e-9),
+                "triangle {t} at the pipe has an edge of {l} m"
+            );
+        }
+    }
+    assert!(touching >= 63);
+    assert!(m.stats.min_angle_away_from_small_input_angles_deg >= 28.0 - 1e-9);
+    // Graded, not uniformly fine: far fewer triangles than 0.002 m² everywhere would need.
+    let uniform = xsheat::mesh::estimate_triangles(24.0, 0.002);
+    assert!(
+        (m.stats.triangles as f64) < 0.3 * uniform,
+        "{} vs {uniform}",
+        m.stats.triangles
+    );
+}
