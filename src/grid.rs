@@ -126,14 +126,15 @@ pub struct GridSolution {
     /// °C, one per node of the model.
     pub temperature: Vec<f64>,
     /// Heat flow into the section through each named boundary, W/m, by boundary id (names in
-    /// the section's order). Fixed boundaries: the residual of their nodes' control-volume
-    /// balance plus the flow along cut arms ending on them; convection and flux boundaries: the
-    /// imposed terms.
+    /// the section's order). Convection and flux boundaries: the imposed terms. Fixed
+    /// boundaries: the residual of the control-volume balance of the boundary layer — fixed
+    /// nodes and Shortley–Weller nodes — with each flow to a regular node taken as that node's
+    /// (conservative) row sees it. This is conservative even though the Shortley–Weller rows
+    /// are not.
     pub heat_flow: Vec<(String, f64)>,
     /// Total heat source, W/m.
     pub source: f64,
-    /// Σ heat_flow + source, W/m. Round-off only when no arm is cut: the Shortley–Weller rows
-    /// are not conservative, so with off-grid fixed edges it measures their imbalance.
+    /// Σ heat_flow + source, W/m: round-off for a solved system (a check of the bookkeeping).
     pub imbalance: f64,
     /// ‖A·T − b‖∞ / (‖A‖∞·‖T‖∞ + ‖b‖∞) of the solved system.
     pub residual_relative: f64,
@@ -296,7 +297,11 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
         )));
     }
     let origin = lo;
-    let scale = lo[0].abs().max(lo[1].abs()).max(hi[0].abs()).max(hi[1].abs());
+    let scale = lo[0]
+        .abs()
+        .max(lo[1].abs())
+        .max(hi[0].abs())
+        .max(hi[1].abs());
     let tol = (1e-9 * h).max(16.0 * f64::EPSILON * scale);
     let tau = tol / h;
     let grid_point = |i: usize, j: usize| [origin[0] + i as f64 * h, origin[1] + j as f64 * h];
@@ -417,7 +422,10 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             let kind = if !fixed.is_empty() {
                 fixed.sort_unstable();
                 fixed.dedup();
-                let t = fixed.iter().map(|&b| fixed_temp(Some(b)).unwrap_or(0.0)).sum::<f64>()
+                let t = fixed
+                    .iter()
+                    .map(|&b| fixed_temp(Some(b)).unwrap_or(0.0))
+                    .sum::<f64>()
                     / fixed.len() as f64;
                 fixed_on.insert(nodes.len(), fixed);
                 NodeKind::Fixed { temperature: t }
@@ -466,21 +474,22 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             let mut first: Option<(f64, usize)> = None;
             for &s in &near {
                 let s = s as usize;
-                if let Some(t) = arm_crossing(p, dir, h, &segs[s]) {
-                    if t > tau && t < 1.0 - tau {
-                        let better = match first {
-                            None => true,
-                            // At a shared vertex prefer a fixed segment, then the lower index.
-                            Some((ft, fs)) => {
-                                t < ft - tau
-                                    || ((t - ft).abs() <= tau
-                                        && fixed_temp(segs[fs].boundary).is_none()
-                                        && fixed_temp(segs[s].boundary).is_some())
-                            }
-                        };
-                        if better {
-                            first = Some((t, s));
+                if let Some(t) = arm_crossing(p, dir, h, &segs[s])
+                    && t > tau
+                    && t < 1.0 - tau
+                {
+                    let better = match first {
+                        None => true,
+                        // At a shared vertex prefer a fixed segment, then the lower index.
+                        Some((ft, fs)) => {
+                            t < ft - tau
+                                || ((t - ft).abs() <= tau
+                                    && fixed_temp(segs[fs].boundary).is_none()
+                                    && fixed_temp(segs[s].boundary).is_some())
                         }
+                    };
+                    if better {
+                        first = Some((t, s));
                     }
                 }
             }
@@ -533,10 +542,7 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             let cj = node.j as i64 + if sy > 0 { 0 } else { -1 };
             let m = cell(ci, cj)
                 .or_else(|| {
-                    material_at([
-                        p[0] + sx as f64 * 0.25 * ax,
-                        p[1] + sy as f64 * 0.25 * ay,
-                    ])
+                    material_at([p[0] + sx as f64 * 0.25 * ax, p[1] + sy as f64 * 0.25 * ay])
                 })
                 .or_else(|| if interior { material_at(p) } else { None });
             match m {
@@ -571,11 +577,11 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
                 + sw.1 * len[W] * len[S]);
         let mut any_cut = false;
         for d in 0..4 {
-            if let Some(c) = cut[d] {
-                if g[d] > 0.0 {
-                    cuts.insert((n, d), c);
-                    any_cut = true;
-                }
+            if let Some(c) = cut[d]
+                && g[d] > 0.0
+            {
+                cuts.insert((n, d), c);
+                any_cut = true;
             }
         }
         if any_cut && !is_fixed {
@@ -591,7 +597,11 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
                     p[0] + dir.0 as f64 * 0.25 * len[d],
                     p[1] + dir.1 as f64 * 0.25 * len[d],
                 ];
-                buckets.query([m[0] - tol, m[1] - tol], [m[0] + tol, m[1] + tol], &mut near);
+                buckets.query(
+                    [m[0] - tol, m[1] - tol],
+                    [m[0] + tol, m[1] + tol],
+                    &mut near,
+                );
                 if let Some(&s) = near.iter().find(|&&s| {
                     let sg = &segs[s as usize];
                     geometry::project(sg.a, sg.b, m).1 <= tol
@@ -640,17 +650,22 @@ impl GridModel {
         (n != NONE).then_some(n as usize)
     }
 
-    /// Neighbour node of node n in direction d, if the arm there is regular.
-    fn neighbour(&self, n: usize, d: usize) -> Option<usize> {
-        if self.conductance[n][d] == 0.0 || self.cuts.contains_key(&(n, d)) {
-            return None;
-        }
+    /// The node at the next grid point from node n in direction d, if any.
+    fn grid_neighbour(&self, n: usize, d: usize) -> Option<usize> {
         let node = &self.nodes[n];
         let (i, j) = (node.i as i64 + DIRS[d].0, node.j as i64 + DIRS[d].1);
         if i < 0 || j < 0 {
             return None;
         }
         self.node_index(i as usize, j as usize)
+    }
+
+    /// Neighbour node of node n in direction d, if the arm there is regular.
+    fn neighbour(&self, n: usize, d: usize) -> Option<usize> {
+        if self.conductance[n][d] == 0.0 || self.cuts.contains_key(&(n, d)) {
+            return None;
+        }
+        self.grid_neighbour(n, d)
     }
 
     /// Conductance of the face node n's arm in direction d crosses, W/(m·K); 0 = no arm.
@@ -669,7 +684,9 @@ impl GridModel {
             for s in shares {
                 if let Some(b) = s.boundary {
                     match self.boundaries[b].1 {
-                        BoundaryKind::Convection { h, ambient } => f(b, h * s.length * (ambient - t)),
+                        BoundaryKind::Convection { h, ambient } => {
+                            f(b, h * s.length * (ambient - t))
+                        }
                         BoundaryKind::Flux { flux } => f(b, flux * s.length),
                         BoundaryKind::Insulated | BoundaryKind::Fixed { .. } => {}
                     }
@@ -824,7 +841,7 @@ pub fn solve(model: &GridModel) -> Result<GridSolution> {
         let bnorm = rhs.iter().map(|v| v.abs()).fold(0.0, f64::max);
         let denom = anorm * xnorm + bnorm;
         residual_relative = if denom > 0.0 { rmax / denom } else { rmax };
-        if !(residual_relative <= RESIDUAL_TOLERANCE) {
+        if residual_relative.is_nan() || residual_relative > RESIDUAL_TOLERANCE {
             return Err(Error::run(format!(
                 "grid model: solver residual {residual_relative:.3e} exceeds {RESIDUAL_TOLERANCE:e}"
             )));
@@ -836,58 +853,93 @@ pub fn solve(model: &GridModel) -> Result<GridSolution> {
         }
     }
 
-    // Heat flow per boundary.
+    // Heat flow per boundary. Regular unknowns (no cut arm) have conservative rows with
+    // symmetric links. The rest — fixed nodes and Shortley–Weller nodes — form the boundary
+    // layer; each layer node's inflow from the boundary is the residual of its balance, with
+    // the flow to a regular neighbour as that neighbour's row sees it and the flow to another
+    // layer node through the mean of the two conductances. The flows then close exactly.
+    let mut layer = vec![false; nn];
+    for (n, node) in model.nodes.iter().enumerate() {
+        layer[n] = matches!(node.kind, NodeKind::Fixed { .. });
+    }
+    for &(n, _) in model.cuts.keys() {
+        layer[n] = true;
+    }
     let mut flow = vec![0.0; model.boundaries.len()];
     for (n, node) in model.nodes.iter().enumerate() {
         let tp = temperature[n];
-        let mut links = 0.0;
-        for d in 0..4 {
-            let g = model.conductance[n][d];
-            if g == 0.0 {
-                continue;
-            }
-            if let Some(c) = model.cuts.get(&(n, d)) {
-                flow[c.boundary] += g * (c.temperature - tp);
-            } else if let Some(q) = model.neighbour(n, d) {
-                links += g * (temperature[q] - tp);
-            }
-        }
         let mut imposed = 0.0;
         model.imposed(n, tp, |b, v| {
             flow[b] += v;
             imposed += v;
         });
+        if !layer[n] {
+            continue;
+        }
+        let mut links = 0.0;
+        for d in 0..4 {
+            let Some(q) = model.grid_neighbour(n, d) else {
+                continue;
+            };
+            if model.cuts.contains_key(&(n, d)) || model.cuts.contains_key(&(q, d ^ 1)) {
+                continue;
+            }
+            let back = model.conductance[q][d ^ 1];
+            let g = if layer[q] {
+                0.5 * (model.conductance[n][d] + back)
+            } else {
+                back
+            };
+            links += g * (temperature[q] - tp);
+        }
+        let mut cut_in = 0.0;
         if let NodeKind::Fixed { .. } = node.kind {
-            let cut_in: f64 = (0..4)
-                .filter_map(|d| model.cuts.get(&(n, d)).map(|c| (d, c)))
-                .map(|(d, c)| model.conductance[n][d] * (c.temperature - tp))
-                .sum();
-            let own = -(links + cut_in + model.source[n] + imposed);
-            let on = &model.fixed_on[&n];
-            let mut w: Vec<f64> = on
-                .iter()
-                .map(|&b| {
-                    model
+            // A fixed node's cut arms reach another fixed boundary: conduction between them.
+            for d in 0..4 {
+                if let Some(c) = model.cuts.get(&(n, d)) {
+                    let v = model.conductance[n][d] * (c.temperature - tp);
+                    flow[c.boundary] += v;
+                    cut_in += v;
+                }
+            }
+        }
+        let own = -(links + cut_in + model.source[n] + imposed);
+        // Share the inflow among the node's own fixed boundaries: for a fixed node by the
+        // boundary length along each (equal shares if none), for a Shortley–Weller node by
+        // the conductance of the arms cut by each.
+        let mut shares: Vec<(usize, f64)> = Vec::new();
+        let mut add = |b: usize, w: f64| match shares.iter_mut().find(|(x, _)| *x == b) {
+            Some(s) => s.1 += w,
+            None => shares.push((b, w)),
+        };
+        match node.kind {
+            NodeKind::Fixed { .. } => {
+                for &b in model.fixed_on.get(&n).map(|v| v.as_slice()).unwrap_or(&[]) {
+                    let along: f64 = model
                         .edges
                         .get(&n)
                         .map(|s| {
                             s.iter()
                                 .filter(|e| e.boundary == Some(b))
                                 .map(|e| e.length)
-                                .sum::<f64>()
+                                .sum()
                         })
-                        .unwrap_or(0.0)
-                })
-                .collect();
-            let total: f64 = w.iter().sum();
-            if total > 0.0 {
-                w.iter_mut().for_each(|v| *v /= total);
-            } else {
-                w.iter_mut().for_each(|v| *v = 1.0 / on.len() as f64);
+                        .unwrap_or(0.0);
+                    add(b, along);
+                }
             }
-            for (&b, wb) in on.iter().zip(w) {
-                flow[b] += wb * own;
+            _ => {
+                for d in 0..4 {
+                    if let Some(c) = model.cuts.get(&(n, d)) {
+                        add(c.boundary, model.conductance[n][d]);
+                    }
+                }
             }
+        }
+        let total: f64 = shares.iter().map(|s| s.1).sum();
+        let count = shares.len() as f64;
+        for (b, w) in shares {
+            flow[b] += own * if total > 0.0 { w / total } else { 1.0 / count };
         }
     }
     let source: f64 = model.source.iter().sum();
