@@ -9,6 +9,7 @@
 pub mod error;
 pub mod fem;
 pub mod geometry;
+pub mod grid;
 pub mod io;
 pub mod mesh;
 pub mod model;
