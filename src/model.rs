@@ -264,12 +264,69 @@ pub struct Section {
 // ---------------------------------------------------------------------------------------------
 
 /// Parse the TOML text of a model file. Syntax errors, unknown keys and wrong types are
-/// reported with the line and column the TOML parser gives.
+/// reported with the line and column, the offending line, and for a misspelt key the nearest
+/// valid one.
 pub fn parse(text: &str) -> Result<ModelFile> {
     toml::from_str::<ModelFile>(text).map_err(|e| {
-        let msg = e.to_string();
-        Error::input(format!("model file: {}", msg.trim_end()))
+        let mut msg = e.message().trim_end().to_string();
+        if let Some(hint) = unknown_key_hint(&msg) {
+            msg.push_str(&hint);
+        }
+        match e.span() {
+            Some(span) => {
+                let start = span.start.min(text.len());
+                let line = text[..start].matches('\n').count() + 1;
+                let line_start = text[..start].rfind('\n').map_or(0, |i| i + 1);
+                let column = text[line_start..start].chars().count() + 1;
+                let line_text = text[line_start..].lines().next().unwrap_or("").trim_end();
+                Error::input(format!(
+                    "model file, line {line}, column {column}: {msg}\n  {line} | {line_text}"
+                ))
+            }
+            None => Error::input(format!("model file: {msg}")),
+        }
     })
+}
+
+/// For serde's "unknown field `x`, expected one of `a`, `b`" message: "; did you mean `a`?".
+fn unknown_key_hint(msg: &str) -> Option<String> {
+    let rest = msg.strip_prefix("unknown field `")?;
+    let end = rest.find('`')?;
+    let key = &rest[..end];
+    let expected: Vec<&str> = rest[end + 1..].split('`').skip(1).step_by(2).collect();
+    suggest(key, expected.iter().copied()).map(|s| format!("; did you mean `{s}`?"))
+}
+
+/// Levenshtein distance (for suggestions).
+fn edit_distance(a: &str, b: &str) -> usize {
+    let a: Vec<char> = a.chars().collect();
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for i in 1..=a.len() {
+        let mut cur = vec![i; b.len() + 1];
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            cur[j] = (prev[j] + 1).min(cur[j - 1] + 1).min(prev[j - 1] + cost);
+        }
+        prev = cur;
+    }
+    prev[b.len()]
+}
+
+/// The candidate nearest to `name`, if it is near enough to be a likely misspelling.
+pub fn suggest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
+    let limit = (name.chars().count() / 3).max(2);
+    candidates
+        .map(|c| (edit_distance(&name.to_lowercase(), &c.to_lowercase()), c))
+        .filter(|(d, _)| *d <= limit)
+        .min_by(|x, y| x.0.cmp(&y.0).then(x.1.cmp(y.1)))
+        .map(|(_, c)| c)
+}
+
+fn did_you_mean<'a>(name: &str, candidates: impl Iterator<Item = &'a String>) -> String {
+    suggest(name, candidates.map(|s| s.as_str()))
+        .map(|s| format!("; did you mean \"{s}\"?"))
+        .unwrap_or_default()
 }
 
 /// Read, parse and validate a model file.
@@ -407,8 +464,9 @@ fn build_ring(
         match ctx.boundary_ids.get(name) {
             Some(&id) => Ok(Some(id)),
             None => Err(Error::input(format!(
-                "{what} names boundary \"{name}\", which is not defined under [boundaries] (defined: {})",
-                known_list(ctx.boundaries.keys())
+                "{what} names boundary \"{name}\", which is not defined under [boundaries] (defined: {}){}",
+                known_list(ctx.boundaries.keys()),
+                did_you_mean(name, ctx.boundaries.keys())
             ))),
         }
     };
@@ -667,8 +725,14 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             BoundaryKind::Convection { h, ambient: a }
         }
         other => {
+            let hint = suggest(
+                other,
+                ["fixed", "insulated", "flux", "convection"].into_iter(),
+            )
+            .map(|s| format!("; did you mean \"{s}\"?"))
+            .unwrap_or_default();
             return Err(Error::input(format!(
-                "boundaries.{name}: unknown kind \"{other}\" (one of: fixed, insulated, flux, convection)"
+                "boundaries.{name}: unknown kind \"{other}\" (one of: fixed, insulated, flux, convection){hint}"
             )));
         }
     };
@@ -727,8 +791,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
             .ok_or_else(|| Error::input(format!("{label}: missing `material`")))?;
         material_ids.get(name).copied().ok_or_else(|| {
             Error::input(format!(
-                "{label}: material \"{name}\" is not defined under [materials] (defined: {})",
-                known_list(file.materials.keys())
+                "{label}: material \"{name}\" is not defined under [materials] (defined: {}){}",
+                known_list(file.materials.keys()),
+                did_you_mean(name, file.materials.keys())
             ))
         })
     };

@@ -250,6 +250,99 @@ fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
             &["lines[0]", "\"L\"", "no sample"],
         ),
         (
+            "misspelt-key-suggestion",
+            replace("conductivity = 1.7", "conductivty = 1.7"),
+            &["line 6", "did you mean `conductivity`"],
+        ),
+        (
+            "missing-key",
+            replace("conductivity = 1.7", "heat_source = 1.0"),
+            &["conductivity"],
+        ),
+        (
+            "kind-key-mismatch",
+            replace(
+                "kind = \"fixed\"\ntemperature = 10.0",
+                "kind = \"fixed\"\ntemperature = 10.0\nh = 3.0",
+            ),
+            &["boundaries.base", "`h`", "fixed"],
+        ),
+        (
+            "kind-suggestion",
+            replace("kind = \"flux\"", "kind = \"flx\""),
+            &["boundaries.right", "did you mean \"flux\""],
+        ),
+        (
+            "material-suggestion",
+            replace("material = \"concrete\"", "material = \"concret\""),
+            &["outline", "did you mean \"concrete\""],
+        ),
+        (
+            "edges-and-boundary",
+            replace(
+                "edges = [\"base\", \"right\", \"top\", \"left\"]",
+                "edges = [\"base\", \"right\", \"top\", \"left\"]\nboundary = \"base\"",
+            ),
+            &["outline", "edges", "boundary", "not both"],
+        ),
+        (
+            "vertex-repeated",
+            replace(
+                "[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [0.0, 5.0]]\nedges = [\"base\", \"right\", \"top\", \"left\"]",
+                "[[0.0, 0.0], [8.0, 0.0], [8.0, 5.0], [4.0, 2.0], [8.0, 5.0], [0.0, 5.0]]\nboundary = \"base\"",
+            ),
+            &["outline", "repeats", "touch itself"],
+        ),
+        (
+            "hole-in-hole",
+            replace(
+                "[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n",
+                "[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.3 }\nboundary = \"gallery\"\n[[holes]]\ncircle = { center = [2.0, 2.0], radius = 0.1 }\nboundary = \"gallery\"\n",
+            ),
+            &["holes[1]", "inside holes[0]"],
+        ),
+        (
+            "region-no-area",
+            format!(
+                "{BASE}\n[[regions]]\nmaterial = \"concrete\"\ncircle = {{ center = [2.0, 2.0], radius = 0.1 }}\n"
+            ),
+            &["regions[0]", "no area"],
+        ),
+        (
+            "region-outside",
+            format!(
+                "{BASE}\n[[regions]]\nmaterial = \"concrete\"\npoints = [[20.0, 0.0], [21.0, 0.0], [21.0, 1.0]]\n"
+            ),
+            &["regions[0]", "no area"],
+        ),
+        (
+            "huge-coordinate",
+            replace("[8.0, 5.0], [0.0, 5.0]]", "[8.0, 5.0e7], [0.0, 5.0]]"),
+            &["outline: points[2]", "accepted range"],
+        ),
+        (
+            "duplicate-line",
+            format!(
+                "{BASE}\n[[lines]]\nname = \"L\"\nfrom = [1.0, 1.0]\nto = [3.0, 1.0]\nsamples = 3\n[[lines]]\nname = \"L\"\nfrom = [1.0, 1.5]\nto = [3.0, 1.5]\nsamples = 3\n"
+            ),
+            &["lines[1]", "duplicate"],
+        ),
+        (
+            "bad-probe-name",
+            replace("name = \"P1\"", "name = \"P 1\""),
+            &["probes[0]", "letters, digits"],
+        ),
+        (
+            "no-outline",
+            BASE.replace("[outline]", "[ignored]"),
+            &["ignored"],
+        ),
+        (
+            "no-materials",
+            BASE.replace("[materials.concrete]\nconductivity = 1.7\n", ""),
+            &["material"],
+        ),
+        (
             "line-samples",
             format!(
                 "{BASE}\n[[lines]]\nname = \"L\"\nfrom = [1.0, 1.0]\nto = [3.0, 1.0]\nsamples = 1\n"
