@@ -159,7 +159,8 @@ pub fn mesh_report(s: &Section, m: &Mesh) -> String {
     if !st.small_input_angles.is_empty() {
         let _ = writeln!(
             o,
-            "input angles below the limit (the angle limit cannot hold next to them): {}",
+            "input angles below {}° (2 × min_angle; the angle limit may not hold next to them): {}",
+            crate::mesh::SMALL_INPUT_ANGLE_FACTOR * s.mesh.min_angle,
             st.small_input_angles.len()
         );
         for a in &st.small_input_angles {
