@@ -133,7 +133,7 @@ pub fn zz_estimate(
     let mut indicator = Vec::with_capacity(nt);
     let mut eta2 = 0.0;
     let mut norm2 = 0.0;
-    for t in 0..nt {
+    for (t, c) in recovered.iter().enumerate() {
         let k = system.conductivity.get(mesh.material[t]).ok_or_else(|| {
             Error::run(format!(
                 "internal error: triangle {t} has material id {} without a conductivity",
@@ -142,7 +142,6 @@ pub fn zz_estimate(
         })?;
         let area = TriangleGeometry::of(mesh, t).area.abs();
         let g = results.cell_gradient[t];
-        let c = recovered[t];
         // Edge-midpoint rule: exact for the quadratic integrand, weights A/3.
         let mut s = 0.0;
         for i in 0..3 {
@@ -657,7 +656,7 @@ pub fn convergence_study(
         "the GCI estimates the discretisation error of the mesh only; it does not cover model assumptions or input data.".to_string(),
     ];
     if !circles.is_empty() {
-        notes.push("circles keep one segment count at every level (the finest level's, or the model's own `segments`), so every level meshes the same polygon: the GCI covers the mesh error on that polygon, not the polygon-versus-circle difference, bounded by the sagitta listed per circle.".to_string());
+        notes.push("circles keep one segment count at every level (the finest level's, or the model's own `segments`), so every level meshes the same polygon: the GCI covers the mesh error on that polygon, not the polygon-versus-circle difference, bounded by the sagitta listed per circle. A consequence: on coarse levels the mesh near a circle is already as fine as its fixed segments, so the local refinement ratio there is smaller than the global r = h2/h1 and orders of quantities dominated by a circle (its heat flow) may appear low.".to_string());
     }
     Ok(ConvergenceStudy {
         title: prepared.section.title.clone(),
