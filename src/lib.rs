@@ -6,6 +6,7 @@
 //! (gradients, fluxes, heat flows, probes, lines) → [`io`] (VTK, CSV, JSON).
 //! [`run`] strings the stages together for the command-line tool and the examples.
 
+pub mod accuracy;
 pub mod error;
 pub mod fem;
 pub mod geometry;
@@ -17,6 +18,7 @@ pub mod post;
 pub mod report;
 pub mod run;
 pub mod solve;
+pub mod verify;
 
 pub use error::{Error, Result};
 

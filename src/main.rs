@@ -45,6 +45,26 @@ enum Command {
         #[arg(long, default_value_t = xsheat::model::DEFAULT_MAX_TRIANGLES)]
         max_triangles: usize,
     },
+    /// Mesh convergence study: solve on LEVELS meshes (max_area divided by 4 each) and write the
+    /// observed order, Richardson extrapolation and GCI of every probe, heat flow and extreme.
+    Converge {
+        model: PathBuf,
+        /// Number of meshes, at least 3.
+        #[arg(long, default_value_t = 3)]
+        levels: usize,
+        /// Output directory for convergence.csv and convergence.json.
+        #[arg(long)]
+        out: PathBuf,
+        /// Refuse when the finest level is estimated above this many triangles.
+        #[arg(long, default_value_t = xsheat::model::DEFAULT_MAX_TRIANGLES)]
+        max_triangles: usize,
+    },
+    /// Run the built-in verification suite against published reference solutions.
+    Verify {
+        /// Also write verify.csv and verify.json into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+    },
 }
 
 fn opts(max_triangles: usize) -> xsheat::Result<MeshOptions> {
@@ -101,6 +121,44 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             let written = files.commit(&out)?;
             print!("{text}");
             println!("wrote {} files to {}", written.len(), out.display());
+            Ok(())
+        }
+        Command::Converge {
+            model,
+            levels,
+            out,
+            max_triangles,
+        } => {
+            use xsheat::accuracy;
+            let o = opts(max_triangles)?;
+            if levels < 3 {
+                return Err(Error::input(format!(
+                    "--levels = {levels}: a convergence study needs at least 3 levels"
+                )));
+            }
+            let p = run::prepare(&model)?;
+            let study = accuracy::convergence_study(&p, levels, &o)?;
+            let written = accuracy::convergence_files(&study)?.commit(&out)?;
+            print!("{}", accuracy::convergence_report(&study));
+            eprint!("{}", report::warnings_report(&study.warnings));
+            println!("wrote {} files to {}", written.len(), out.display());
+            Ok(())
+        }
+        Command::Verify { out } => {
+            use xsheat::verify;
+            let suite = verify::run_suite()?;
+            print!("{}", verify::verify_report(&suite));
+            if let Some(dir) = out {
+                let written = verify::verify_files(&suite)?.commit(&dir)?;
+                println!("wrote {} files to {}", written.len(), dir.display());
+            }
+            if !suite.all_passed() {
+                return Err(Error::run(format!(
+                    "verification failed: {} of {} checks outside their tolerance",
+                    suite.failed(),
+                    suite.cases.len()
+                )));
+            }
             Ok(())
         }
     }
