@@ -6,6 +6,7 @@
 //! (gradients, fluxes, heat flows, probes, lines) → [`io`] (VTK, CSV, JSON).
 //! [`run`] strings the stages together for the command-line tool and the examples.
 
+pub mod crosscheck;
 pub mod error;
 pub mod fem;
 pub mod geometry;
