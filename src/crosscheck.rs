@@ -511,12 +511,12 @@ pub fn parse_user_grid(text: &str, source: &str) -> Result<UserGrid> {
     let mut header_seen = false;
     for record in reader.records() {
         let record = record.map_err(|e| {
-            let at = e
-                .position()
-                .map_or(String::new(), |p| format!(" line {}:", p.line()));
+            let at = e.position().map_or(String::new(), |p| {
+                format!(" line {}:", line_of(text, p.byte()))
+            });
             Error::input(format!("{source}:{at} cannot read CSV: {e}"))
         })?;
-        let line = record.position().map_or(0, |p| p.line());
+        let line = record.position().map_or(0, |p| line_of(text, p.byte()));
         if record.len() == 1 && record[0].trim().is_empty() {
             continue;
         }
@@ -575,6 +575,17 @@ pub fn parse_user_grid(text: &str, source: &str) -> Result<UserGrid> {
         source: source.to_string(),
         points,
     })
+}
+
+/// Line number (1-based) of the first content at byte offset `byte`, counted from the text
+/// itself: the reader may report a record as starting at the line ending before it (CRLF).
+fn line_of(text: &str, byte: u64) -> u64 {
+    let b = text.as_bytes();
+    let mut at = (byte as usize).min(b.len());
+    while at < b.len() && (b[at] == b'\r' || b[at] == b'\n') {
+        at += 1;
+    }
+    1 + b[..at].iter().filter(|&&c| c == b'\n').count() as u64
 }
 
 /// Compare a user's grid results with a solved element model. Points outside the section are
@@ -905,7 +916,9 @@ pub fn compare_report(c: &Comparison) -> String {
         }
     );
     if !c.outside.is_empty() {
-        let _ = writeln!(o, "{} points outside the section skipped:", c.outside.len());
+        let n = c.outside.len();
+        let plural = if n == 1 { "" } else { "s" };
+        let _ = writeln!(o, "{n} point{plural} outside the section skipped:");
         for p in c.outside.iter().take(OUTSIDE_LISTED) {
             let _ = writeln!(
                 o,
@@ -919,4 +932,65 @@ pub fn compare_report(c: &Comparison) -> String {
     }
     stats_lines(&mut o, "user − element", &c.stats);
     o
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn spacings_are_sorted_halved_and_checked() {
+        assert_eq!(spacings(&[0.1], Some(3)).unwrap(), [0.1, 0.05, 0.025]);
+        assert_eq!(spacings(&[0.05, 0.1], None).unwrap(), [0.1, 0.05]);
+        assert!(matches!(spacings(&[], None), Err(Error::Input(_))));
+        assert!(matches!(spacings(&[0.1], Some(0)), Err(Error::Input(_))));
+        assert!(matches!(spacings(&[0.1], Some(13)), Err(Error::Input(_))));
+        assert!(matches!(spacings(&[f64::NAN], None), Err(Error::Input(_))));
+    }
+
+    #[test]
+    fn observed_order_of_a_quadratic_error_is_two() {
+        let o = observed_order(4e-3, 1e-3, 0.2, 0.1).unwrap();
+        assert!((o - 2.0).abs() < 1e-12);
+        assert_eq!(observed_order(0.0, 1e-3, 0.2, 0.1), None);
+        assert_eq!(observed_order(1e-3, 1e-3, 0.1, 0.1), None);
+    }
+
+    #[test]
+    fn user_grid_accepts_bom_crlf_blank_lines_and_extra_columns() {
+        let g = parse_user_grid(
+            "\u{feff}x,y,temperature,id\r\n0.5, 0.25 ,12.5,a\r\n\r\n1,2,3,b\r\n",
+            "t.csv",
+        )
+        .unwrap();
+        assert_eq!(g.points.len(), 2);
+        assert_eq!(
+            g.points[0],
+            UserPoint {
+                line: 2,
+                x: 0.5,
+                y: 0.25,
+                temperature: 12.5
+            }
+        );
+        assert_eq!(g.points[1].line, 4);
+        let e = parse_user_grid("x, y, temperature\n1,2,3\n", "t.csv").unwrap_err();
+        assert!(e.message().contains("\"x, y, temperature\""), "{e}");
+    }
+
+    #[test]
+    fn stats_take_the_first_largest_difference() {
+        let p = |x: f64, d: f64| PointDiff {
+            x,
+            y: 0.0,
+            t_other: d,
+            t_fe: 0.0,
+            diff: d,
+        };
+        let s = DiffStats::of(&[p(0.0, 1.0), p(1.0, -3.0), p(2.0, 3.0)]);
+        assert_eq!(s.max_abs, 3.0);
+        assert_eq!(s.max_at, [1.0, 0.0]);
+        assert!((s.mean - 1.0 / 3.0).abs() < 1e-15);
+        assert!((s.rms - (19.0f64 / 3.0).sqrt()).abs() < 1e-15);
+    }
 }
