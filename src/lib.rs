@@ -7,6 +7,7 @@
 //! [`run`] strings the stages together for the command-line tool and the examples.
 
 pub mod accuracy;
+pub mod crosscheck;
 pub mod error;
 pub mod fem;
 pub mod geometry;

@@ -4,7 +4,7 @@ use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 use std::process::ExitCode;
 use xsheat::mesh::MeshOptions;
-use xsheat::{Error, io, report, run};
+use xsheat::{Error, crosscheck, io, report, run};
 
 #[derive(Parser)]
 #[command(
@@ -64,6 +64,40 @@ enum Command {
         /// Also write verify.csv and verify.json into this directory.
         #[arg(long)]
         out: Option<PathBuf>,
+    },
+    /// Cross-check: solve the grid (finite-difference) model and the element model of the
+    /// section and compare them node by node and boundary by boundary.
+    Gridcheck {
+        model: PathBuf,
+        /// Grid spacing h, m; repeat for a table of the difference against h.
+        #[arg(long, required = true, allow_negative_numbers = true)]
+        spacing: Vec<f64>,
+        /// Check N spacings: the given one halved N−1 times.
+        #[arg(long)]
+        levels: Option<usize>,
+        /// Element model's max_area for the check, m² (default: the model's [mesh] max_area).
+        #[arg(long, allow_negative_numbers = true)]
+        fe_max_area: Option<f64>,
+        /// Output directory (gridcheck.csv, grid.vtu, gridcheck-levels.csv).
+        #[arg(long)]
+        out: PathBuf,
+        #[arg(long, default_value_t = xsheat::model::DEFAULT_MAX_TRIANGLES)]
+        max_triangles: usize,
+    },
+    /// Cross-check: compare your own grid results (CSV x,y,temperature) with the element field.
+    Compare {
+        model: PathBuf,
+        /// CSV with header x,y,temperature (m, m, °C); further columns are ignored.
+        #[arg(long)]
+        grid_file: PathBuf,
+        /// Element model's max_area for the check, m² (default: the model's [mesh] max_area).
+        #[arg(long, allow_negative_numbers = true)]
+        fe_max_area: Option<f64>,
+        /// Output directory (compare.csv).
+        #[arg(long)]
+        out: PathBuf,
+        #[arg(long, default_value_t = xsheat::model::DEFAULT_MAX_TRIANGLES)]
+        max_triangles: usize,
     },
 }
 
@@ -159,6 +193,42 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                     suite.cases.len()
                 )));
             }
+            Ok(())
+        }
+        Command::Gridcheck {
+            model,
+            spacing,
+            levels,
+            fe_max_area,
+            out,
+            max_triangles,
+        } => {
+            let hs = crosscheck::spacings(&spacing, levels)?;
+            let o = opts(max_triangles)?;
+            let p = run::prepare(&model)?;
+            let check = crosscheck::grid_check(p, &o, fe_max_area, &hs)?;
+            let written = crosscheck::gridcheck_outputs(&check)?.commit(&out)?;
+            print!("{}", crosscheck::gridcheck_report(&check));
+            eprint!("{}", report::warnings_report(&check.warnings));
+            println!("wrote {} files to {}", written.len(), out.display());
+            Ok(())
+        }
+        Command::Compare {
+            model,
+            grid_file,
+            fe_max_area,
+            out,
+            max_triangles,
+        } => {
+            let o = opts(max_triangles)?;
+            let p = run::prepare(&model)?;
+            let user = crosscheck::read_user_grid(&grid_file)?;
+            let solved = crosscheck::solve_element(p, &o, fe_max_area)?;
+            let c = crosscheck::compare(&solved, &user, fe_max_area.is_some())?;
+            let written = crosscheck::compare_outputs(&c)?.commit(&out)?;
+            print!("{}", crosscheck::compare_report(&c));
+            eprint!("{}", report::warnings_report(&c.warnings));
+            println!("wrote {} files to {}", written.len(), out.display());
             Ok(())
         }
     }
