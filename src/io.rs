@@ -373,9 +373,28 @@ fn unstructured_vtu(mesh: &Mesh, title: &str, data: Attributes) -> Result<Vec<u8
 /// (W/m²) and `gradient_nodal` (K/m), vectors with z = 0. Cell data: `heat_flux` (W/m²),
 /// `gradient` (K/m), vectors with z = 0, and `material` (Int32 id).
 pub fn field_vtu(mesh: &Mesh, results: &Results) -> Result<Vec<u8>> {
+    field_vtu_with(mesh, results, &[])
+}
+
+/// [`field_vtu`] with further scalar cell arrays (name, one value per triangle), e.g. the
+/// `error_indicator` of the error estimate.
+pub fn field_vtu_with(
+    mesh: &Mesh,
+    results: &Results,
+    extra_cells: &[(&str, &[f64])],
+) -> Result<Vec<u8>> {
     check_mesh(mesh)?;
     check_results(mesh, results)?;
-    let data = Attributes {
+    for (name, values) in extra_cells {
+        if values.len() != mesh.triangles.len() {
+            return Err(Error::run(format!(
+                "internal: cell array {name} has {} values for {} triangles",
+                values.len(),
+                mesh.triangles.len()
+            )));
+        }
+    }
+    let mut data = Attributes {
         point: vec![
             Attribute::scalars("temperature", 1).with_data(results.temperature.clone()),
             Attribute::vectors("heat_flux_nodal").with_data(vec3(&results.nodal_flux)),
@@ -387,6 +406,10 @@ pub fn field_vtu(mesh: &Mesh, results: &Results) -> Result<Vec<u8>> {
             Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
         ],
     };
+    for (name, values) in extra_cells {
+        data.cell
+            .push(Attribute::scalars(*name, 1).with_data(values.to_vec()));
+    }
     unstructured_vtu(mesh, "field", data)
 }
 
@@ -552,6 +575,9 @@ pub struct SummaryInputs<'a> {
     pub model: &'a Value,
     /// Run information (timings, host, ...): the only part expected to vary run to run.
     pub run: &'a Value,
+    /// Further results keyed by name (e.g. `error_estimate`, `adaptivity`), written after
+    /// `lines` in the given order.
+    pub extra: &'a [(&'a str, Value)],
 }
 
 /// A JSON object whose keys keep the given order (a `serde_json::Value` object would sort
@@ -645,6 +671,8 @@ struct Summary<'a> {
     energy_imbalance_relative: f64,
     probes: Vec<ProbeOut<'a>>,
     lines: Vec<LineOut<'a>>,
+    #[serde(flatten)]
+    extra: OrderedMap<&'a str, &'a Value>,
     warnings: &'a [String],
     checks: &'a Value,
     model: &'a Value,
@@ -753,6 +781,7 @@ pub fn summary_json(inputs: &SummaryInputs<'_>) -> Result<Vec<u8>> {
                     .collect(),
             })
             .collect(),
+        extra: OrderedMap(inputs.extra.iter().map(|(k, v)| (*k, v)).collect()),
         warnings: inputs.warnings,
         checks: inputs.checks,
         model: inputs.model,
@@ -1118,6 +1147,7 @@ mod tests {
             checks: &checks,
             model: &model,
             run: &run,
+            extra: &[("error_estimate", json!({"relative": 0.01}))],
         };
         let bytes = summary_json(&inputs).unwrap();
         assert!(bytes.ends_with(b"}\n"));

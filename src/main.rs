@@ -42,8 +42,13 @@ enum Command {
         /// Output directory (created if missing; only the files written are replaced).
         #[arg(long)]
         out: PathBuf,
+        /// Largest mesh; with --target-error, where adaptive refinement stops.
         #[arg(long, default_value_t = xsheat::model::DEFAULT_MAX_TRIANGLES)]
         max_triangles: usize,
+        /// Refine adaptively until the relative energy-norm error estimate is at most this
+        /// fraction (0.05 = 5 %).
+        #[arg(long, allow_negative_numbers = true)]
+        target_error: Option<f64>,
     },
     /// Mesh convergence study: solve on LEVELS meshes (max_area divided by 4 each) and write the
     /// observed order, Richardson extrapolation and GCI of every probe, heat flow and extreme.
@@ -143,9 +148,21 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             model,
             out,
             max_triangles,
+            target_error,
         } => {
+            let o = opts(max_triangles)?;
+            if let Some(e) = target_error
+                && !(e.is_finite() && e > 0.0 && e < 1.0)
+            {
+                return Err(Error::input(format!(
+                    "--target-error = {e}: give a fraction between 0 and 1 (0.05 = 5 %)"
+                )));
+            }
             let p = run::prepare(&model)?;
-            let solved = run::solve(p, &opts(max_triangles)?)?;
+            let solved = match target_error {
+                Some(e) => run::solve_adaptive(p, &o, e)?,
+                None => run::solve(p, &o)?,
+            };
             let text = report::solve_report(&solved);
             if let Some(e) = run::failed_checks_error(&solved) {
                 print!("{text}");

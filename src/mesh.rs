@@ -384,6 +384,24 @@ pub fn build(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<Mesh>
     build_with(section, pslg, opts, None)
 }
 
+/// A triangulation being refined: keeps spade's triangulation between refinement steps, so a
+/// mesh can be refined further where an error indicator asks (adaptive refinement) without
+/// starting over.
+pub struct Mesher<'a> {
+    section: &'a Section,
+    pslg: &'a Pslg,
+    opts: MeshOptions,
+    cdt: Cdt,
+    cons: Vec<Constraint>,
+    classified: Classified,
+    small: Vec<(usize, f64)>,
+    to_cdt: Vec<usize>,
+    zone_limit: Vec<f64>,
+    n_input: usize,
+    bbox_area: f64,
+    min_area: f64,
+}
+
 /// Mesh a section with an optional size field (adaptive refinement) on top of the model's own
 /// limits: the global `max_area`, each material's `max_area`, each boundary's `size`.
 pub fn build_with(
@@ -392,139 +410,148 @@ pub fn build_with(
     opts: &MeshOptions,
     field: Option<&dyn SizeField>,
 ) -> Result<Mesh> {
-    let max_area = section.mesh.max_area;
-    let boundary_size = |b: Option<usize>| b.and_then(|id| section.boundaries[id].size);
+    let mut m = Mesher::new(section, pslg, opts)?;
+    if opts.refine {
+        m.refine(field, &[])?;
+    }
+    m.mesh()
+}
 
-    // Only vertices that end a piece enter the triangulation; boundary pieces with a `size`
-    // are split in advance into equal parts no longer than the size.
-    let mut used = vec![false; pslg.vertices.len()];
-    for p in &pslg.pieces {
-        used[p.v[0]] = true;
-        used[p.v[1]] = true;
-    }
-    let used_list: Vec<usize> = (0..pslg.vertices.len()).filter(|&i| used[i]).collect();
-    let mut to_cdt = vec![usize::MAX; pslg.vertices.len()];
-    for (k, &i) in used_list.iter().enumerate() {
-        to_cdt[i] = k;
-    }
-    let mut verts: Vec<Point2<f64>> = used_list
-        .iter()
-        .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
-        .collect();
-    let mut cons = Vec::with_capacity(pslg.pieces.len());
-    for (pi, p) in pslg.pieces.iter().enumerate() {
-        let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
-        let size = if p.ring.is_some() {
-            boundary_size(p.boundary)
-        } else {
-            None
-        };
-        let (pa, pb) = (verts[a], verts[b]);
-        let len = ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt();
-        let parts = match size {
-            Some(s) => ((len / s).ceil() as usize).clamp(1, 10_000_000),
-            None => 1,
-        };
-        let mut prev = a;
-        for k in 1..parts {
-            let t = k as f64 / parts as f64;
-            verts.push(Point2::new(
-                pa.x + t * (pb.x - pa.x),
-                pa.y + t * (pb.y - pa.y),
-            ));
-            let v = verts.len() - 1;
+impl<'a> Mesher<'a> {
+    /// Triangulate the segment set (no refinement yet) and check the size estimate.
+    pub fn new(section: &'a Section, pslg: &'a Pslg, opts: &MeshOptions) -> Result<Self> {
+        let max_area = section.mesh.max_area;
+        let boundary_size = |b: Option<usize>| b.and_then(|id| section.boundaries[id].size);
+
+        // Only vertices that end a piece enter the triangulation; boundary pieces with a `size`
+        // are split in advance into equal parts no longer than the size.
+        let mut used = vec![false; pslg.vertices.len()];
+        for p in &pslg.pieces {
+            used[p.v[0]] = true;
+            used[p.v[1]] = true;
+        }
+        let used_list: Vec<usize> = (0..pslg.vertices.len()).filter(|&i| used[i]).collect();
+        let mut to_cdt = vec![usize::MAX; pslg.vertices.len()];
+        for (k, &i) in used_list.iter().enumerate() {
+            to_cdt[i] = k;
+        }
+        let mut verts: Vec<Point2<f64>> = used_list
+            .iter()
+            .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
+            .collect();
+        let mut cons = Vec::with_capacity(pslg.pieces.len());
+        for (pi, p) in pslg.pieces.iter().enumerate() {
+            let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
+            let size = if p.ring.is_some() {
+                boundary_size(p.boundary)
+            } else {
+                None
+            };
+            let (pa, pb) = (verts[a], verts[b]);
+            let len = ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt();
+            let parts = match size {
+                Some(s) => ((len / s).ceil() as usize).clamp(1, 10_000_000),
+                None => 1,
+            };
+            let mut prev = a;
+            for k in 1..parts {
+                let t = k as f64 / parts as f64;
+                verts.push(Point2::new(
+                    pa.x + t * (pb.x - pa.x),
+                    pa.y + t * (pb.y - pa.y),
+                ));
+                let v = verts.len() - 1;
+                cons.push(Constraint {
+                    a: prev,
+                    b: v,
+                    piece: pi,
+                });
+                prev = v;
+            }
             cons.push(Constraint {
                 a: prev,
-                b: v,
+                b,
                 piece: pi,
             });
-            prev = v;
         }
-        cons.push(Constraint {
-            a: prev,
-            b,
-            piece: pi,
-        });
-    }
-    // Four frame vertices around the section make the convex hull. Without them the hull runs
-    // along the outline, and a snapped crossing point that sits off its segment's line by
-    // round-off lies just inside a hull edge: refinement then splits that hull edge without end.
-    {
-        let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
-        for p in &verts {
-            lo = [lo[0].min(p.x), lo[1].min(p.y)];
-            hi = [hi[0].max(p.x), hi[1].max(p.y)];
-        }
-        let m = 0.02 * ((hi[0] - lo[0]).powi(2) + (hi[1] - lo[1]).powi(2)).sqrt();
-        for (x, y) in [
-            (lo[0] - m, lo[1] - m),
-            (hi[0] + m, lo[1] - m),
-            (hi[0] + m, hi[1] + m),
-            (lo[0] - m, hi[1] + m),
-        ] {
-            verts.push(Point2::new(x, y));
-        }
-    }
-    let edges: Vec<[usize; 2]> = cons.iter().map(|c| [c.a, c.b]).collect();
-    let mut conflicts = Vec::new();
-    let mut cdt = Cdt::try_bulk_load_cdt(verts.clone(), edges, |e| conflicts.push(e))
-        .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
-    if !conflicts.is_empty() || cdt.num_vertices() != verts.len() {
-        return Err(Error::run(format!(
-            "internal: {} constraint conflicts while triangulating the segment set",
-            conflicts.len()
-        )));
-    }
-    for (k, v) in cdt.vertices().enumerate() {
-        if v.position() != verts[k] {
-            return Err(Error::run(
-                "internal: triangulation reordered the input vertices",
-            ));
-        }
-    }
-    let small = small_input_angles(
-        pslg,
-        &used_list,
-        SMALL_INPUT_ANGLE_FACTOR * section.mesh.min_angle,
-    );
-
-    // Area limit of a triangle of a zone.
-    let zone_limit: Vec<f64> = pslg
-        .zone_material
-        .iter()
-        .map(|&m| {
-            section.materials[m]
-                .max_area
-                .map_or(max_area, |a| a.min(max_area))
-        })
-        .collect();
-
-    let mut classified = classify(&cdt, pslg, &cons)?;
-    {
-        // Estimate the final size from the zones' areas and limits, and the sized boundaries.
-        let mut estimate = 0.0;
-        for f in cdt.inner_faces() {
-            if let Some(z) = classified.face_zone[f.fix().index()] {
-                estimate += estimate_triangles(tri_area(f.positions()), zone_limit[z]);
+        // Four frame vertices around the section make the convex hull. Without them the hull runs
+        // along the outline, and a snapped crossing point that sits off its segment's line by
+        // round-off lies just inside a hull edge: refinement then splits that hull edge without end.
+        {
+            let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+            for p in &verts {
+                lo = [lo[0].min(p.x), lo[1].min(p.y)];
+                hi = [hi[0].max(p.x), hi[1].max(p.y)];
+            }
+            let m = 0.02 * ((hi[0] - lo[0]).powi(2) + (hi[1] - lo[1]).powi(2)).sqrt();
+            for (x, y) in [
+                (lo[0] - m, lo[1] - m),
+                (hi[0] + m, lo[1] - m),
+                (hi[0] + m, hi[1] + m),
+                (lo[0] - m, hi[1] + m),
+            ] {
+                verts.push(Point2::new(x, y));
             }
         }
-        for c in &cons {
-            let p = &pslg.pieces[c.piece];
-            if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
-                let (pa, pb) = (verts[c.a], verts[c.b]);
-                estimate += 4.0 * ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt() / s;
-            }
-        }
-        if estimate > opts.max_triangles as f64 {
-            let area = section_area(section);
-            return Err(Error::input(format!(
-                "mesh: max_area = {max_area:e} m² (with the materials' max_area and boundaries' size) would give about {estimate:.0} triangles for a section of {area:.6e} m², above the limit of {}; raise max_area (at least {:.3e} m² if uniform) or pass --max-triangles",
-                opts.max_triangles,
-                estimate_triangles(area, opts.max_triangles as f64)
+        let edges: Vec<[usize; 2]> = cons.iter().map(|c| [c.a, c.b]).collect();
+        let mut conflicts = Vec::new();
+        let cdt = Cdt::try_bulk_load_cdt(verts.clone(), edges, |e| conflicts.push(e))
+            .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
+        if !conflicts.is_empty() || cdt.num_vertices() != verts.len() {
+            return Err(Error::run(format!(
+                "internal: {} constraint conflicts while triangulating the segment set",
+                conflicts.len()
             )));
         }
-    }
-    if opts.refine {
+        for (k, v) in cdt.vertices().enumerate() {
+            if v.position() != verts[k] {
+                return Err(Error::run(
+                    "internal: triangulation reordered the input vertices",
+                ));
+            }
+        }
+        let small = small_input_angles(
+            pslg,
+            &used_list,
+            SMALL_INPUT_ANGLE_FACTOR * section.mesh.min_angle,
+        );
+
+        // Area limit of a triangle of a zone.
+        let zone_limit: Vec<f64> = pslg
+            .zone_material
+            .iter()
+            .map(|&m| {
+                section.materials[m]
+                    .max_area
+                    .map_or(max_area, |a| a.min(max_area))
+            })
+            .collect();
+
+        let classified = classify(&cdt, pslg, &cons)?;
+        {
+            // Estimate the final size from the zones' areas and limits, and the sized boundaries.
+            let mut estimate = 0.0;
+            for f in cdt.inner_faces() {
+                if let Some(z) = classified.face_zone[f.fix().index()] {
+                    estimate += estimate_triangles(tri_area(f.positions()), zone_limit[z]);
+                }
+            }
+            for c in &cons {
+                let p = &pslg.pieces[c.piece];
+                if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
+                    let (pa, pb) = (verts[c.a], verts[c.b]);
+                    estimate += 4.0 * ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt() / s;
+                }
+            }
+            if estimate > opts.max_triangles as f64 {
+                let area = section_area(section);
+                return Err(Error::input(format!(
+                    "mesh: max_area = {max_area:e} m² (with the materials' max_area and boundaries' size) would give about {estimate:.0} triangles for a section of {area:.6e} m², above the limit of {}; raise max_area (at least {:.3e} m² if uniform) or pass --max-triangles",
+                    opts.max_triangles,
+                    estimate_triangles(area, opts.max_triangles as f64)
+                )));
+            }
+        }
         let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
         for p in &verts {
             lo = [lo[0].min(p.x), lo[1].min(p.y)];
@@ -533,22 +560,85 @@ pub fn build_with(
         let bbox_area = (hi[0] - lo[0]) * (hi[1] - lo[1]);
         // Triangles below this area are left alone by the refinement. Snapped crossing points
         // sit off their segment's line by round-off, which leaves slivers of ~1e-16 relative
-        // area between the boundary and the convex hull (outside the section); refining them
-        // never ends. A triangle this small inside the section would need a feature below
-        // 1e-6 of the section's size; the reported minimum angle would show it.
+        // area outside the section; refining them never ends. A triangle this small inside the
+        // section would need a feature below 1e-6 of the section's size; the reported minimum
+        // angle would show it.
         let diam = ((hi[0] - lo[0]).powi(2) + (hi[1] - lo[1]).powi(2)).sqrt();
         let min_area = (1e-6 * diam).powi(2);
+        Ok(Mesher {
+            section,
+            pslg,
+            opts: *opts,
+            cdt,
+            cons,
+            classified,
+            small,
+            to_cdt,
+            zone_limit,
+            n_input: verts.len(),
+            bbox_area,
+            min_area,
+        })
+    }
+
+    /// The current triangulation as a [`Mesh`].
+    pub fn mesh(&self) -> Result<Mesh> {
+        extract(
+            self.section,
+            self.pslg,
+            &self.cdt,
+            &self.classified,
+            &self.small,
+            &self.to_cdt,
+        )
+    }
+
+    /// Insert `points` (e.g. centroids of triangles an error indicator marks), then refine until
+    /// the angle limit, the area limits, the boundary sizes and the size field all hold.
+    pub fn refine(&mut self, field: Option<&dyn SizeField>, points: &[[f64; 2]]) -> Result<()> {
+        let Mesher {
+            section,
+            pslg,
+            opts,
+            cdt,
+            cons,
+            classified,
+            small,
+            to_cdt,
+            zone_limit,
+            n_input,
+            bbox_area,
+            min_area,
+        } = self;
+        let (section, pslg, n_input, bbox_area, min_area) =
+            (*section, *pslg, *n_input, *bbox_area, *min_area);
+        let max_area = section.mesh.max_area;
+        let boundary_size = |b: Option<usize>| b.and_then(|id| section.boundaries[id].size);
+        // Keep the points that fall inside a triangle of the section (located before any
+        // insertion changes the face numbering).
+        let inside: Vec<Point2<f64>> = points
+            .iter()
+            .map(|p| Point2::new(p[0], p[1]))
+            .filter(|&q| {
+                matches!(cdt.locate(q), PositionInTriangulation::OnFace(g)
+                    if classified.face_zone[g.index()].is_some())
+            })
+            .collect();
+        for q in inside {
+            cdt.insert(q)
+                .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
+        }
         let mut pass = 0;
         let mut angle_passes = 0;
         // Triangulation vertices at input angles too small for the angle limit.
-        let mut small_cdt = vec![false; verts.len()];
-        for &(v, _) in &small {
+        let mut small_cdt = vec![false; n_input];
+        for &(v, _) in small.iter() {
             small_cdt[to_cdt[v]] = true;
         }
         loop {
             let budget = (3.0 * bbox_area / max_area).min(4.0 * opts.max_triangles as f64) as usize
                 + 4 * cdt.num_vertices()
-                + 50 * verts.len()
+                + 50 * n_input
                 + 10_000;
             let params = RefinementParameters::<f64>::new()
                 .with_angle_limit(AngleLimit::from_deg(section.mesh.min_angle))
@@ -573,7 +663,7 @@ pub fn build_with(
                     }
                 )));
             }
-            classified = classify(&cdt, pslg, &cons)?;
+            *classified = classify(cdt, pslg, cons)?;
 
             // Vertices on sized boundaries: the smallest size there.
             let mut vertex_size = vec![f64::INFINITY; cdt.num_vertices()];
@@ -636,7 +726,7 @@ pub fn build_with(
                     let cc = f.circumcenter();
                     if let PositionInTriangulation::OnFace(g) = cdt.locate(cc)
                         && classified.face_zone[g.index()].is_some()
-                        && !encroaches_nearby_constraint(&cdt, g, cc)
+                        && !encroaches_nearby_constraint(cdt, g, cc)
                     {
                         angle_inserts.push(cc);
                     }
@@ -656,7 +746,7 @@ pub fn build_with(
                     inserts.len()
                 )));
             }
-            if cdt.num_vertices() + inserts.len() > 2 * opts.max_triangles + verts.len() {
+            if cdt.num_vertices() + inserts.len() > 2 * opts.max_triangles + n_input {
                 return Err(Error::input(format!(
                     "mesh: the size controls ask for more than the limit of {} triangles; raise the sizes or pass --max-triangles",
                     opts.max_triangles
@@ -667,8 +757,8 @@ pub fn build_with(
                     .map_err(|e| Error::run(format!("triangulation failed: {e:?}")))?;
             }
         }
+        Ok(())
     }
-    extract(section, pslg, &cdt, &classified, &small, &to_cdt)
 }
 
 /// Turn the classified triangulation into a [`Mesh`].

@@ -262,6 +262,31 @@ pub fn solve_report(sv: &Solved) -> String {
             l.skipped.len()
         );
     }
+    let e = &sv.error_estimate;
+    let _ = writeln!(
+        o,
+        "error estimate (Zienkiewicz–Zhu, energy norm): {:.3e} (W·K/m)^½, relative {:.3} %",
+        e.energy_norm,
+        100.0 * e.relative
+    );
+    if !sv.adaptivity.is_empty() {
+        let _ = writeln!(o, "adaptive refinement:");
+        let _ = writeln!(
+            o,
+            "  {:>5} {:>10} {:>10} {:>16}",
+            "cycle", "triangles", "nodes", "relative_error_%"
+        );
+        for c in &sv.adaptivity {
+            let _ = writeln!(
+                o,
+                "  {:>5} {:>10} {:>10} {:>16.4}",
+                c.cycle,
+                c.triangles,
+                c.nodes,
+                100.0 * c.relative_error
+            );
+        }
+    }
     let _ = writeln!(o, "self-checks:");
     for c in &sv.checks {
         let _ = writeln!(

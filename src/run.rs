@@ -2,10 +2,11 @@
 //! and runs the numerical self-checks. The command-line tool and the examples call this; each
 //! function is a few stage calls so a program can stop at any stage or replace one.
 
+use crate::accuracy::{self, ErrorEstimate};
 use crate::error::{Error, Result};
 use crate::fem::{self, System};
 use crate::geometry::{self, Pslg};
-use crate::mesh::{self, Mesh, MeshOptions};
+use crate::mesh::{self, Mesh, MeshOptions, SizeField};
 use crate::model::{self, BoundaryKind, ModelFile, Section};
 use crate::post::{self, Results};
 use crate::solve::{self, Solution};
@@ -97,6 +98,10 @@ pub struct Solved {
     pub system: System,
     pub solution: Solution,
     pub results: Results,
+    /// Zienkiewicz–Zhu error estimate of the field.
+    pub error_estimate: ErrorEstimate,
+    /// Adaptive refinement history (empty for a plain solve).
+    pub adaptivity: Vec<Cycle>,
     pub checks: Vec<Check>,
     pub warnings: Vec<String>,
     pub timings: Timings,
@@ -121,14 +126,31 @@ pub fn mesh(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
 
 /// Mesh, assemble, solve and post-process a prepared model, and run the self-checks.
 pub fn solve(prepared: Prepared, opts: &MeshOptions) -> Result<Solved> {
+    solve_with(prepared, opts, None)
+}
+
+/// [`solve`] on a mesh graded by a size field.
+pub fn solve_with(
+    prepared: Prepared,
+    opts: &MeshOptions,
+    field: Option<&dyn SizeField>,
+) -> Result<Solved> {
     let t0 = Instant::now();
-    let mesh = mesh(&prepared, opts)?;
+    let mesh = mesh::build_with(&prepared.section, &prepared.pslg, opts, field)?;
+    let mesh_s = t0.elapsed().as_secs_f64();
+    solve_mesh(prepared, mesh, mesh_s)
+}
+
+/// Assemble, solve and post-process a prepared model on a given mesh of it, and run the
+/// self-checks. `mesh_s` is the meshing time to report.
+pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved> {
     let t1 = Instant::now();
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
     let solution = solve::solve(&system)?;
     let t3 = Instant::now();
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
+    let error_estimate = accuracy::zz_estimate(&prepared.section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
     for w in &results.warnings {
@@ -148,10 +170,12 @@ pub fn solve(prepared: Prepared, opts: &MeshOptions) -> Result<Solved> {
         system,
         solution,
         results,
+        error_estimate,
+        adaptivity: Vec::new(),
         checks,
         warnings,
         timings: Timings {
-            mesh_s: (t1 - t0).as_secs_f64(),
+            mesh_s,
             assemble_s: (t2 - t1).as_secs_f64(),
             solve_s: (t3 - t2).as_secs_f64(),
             post_s: (t4 - t3).as_secs_f64(),
@@ -267,7 +291,14 @@ pub fn output_files(sv: &Solved) -> Result<crate::io::OutputSet> {
     use crate::io;
     let s = sv.section();
     let mut set = io::OutputSet::new();
-    set.add("field.vtu", io::field_vtu(&sv.mesh, &sv.results)?);
+    set.add(
+        "field.vtu",
+        io::field_vtu_with(
+            &sv.mesh,
+            &sv.results,
+            &[("error_indicator", &sv.error_estimate.indicator)],
+        )?,
+    );
     set.add("nodes.csv", io::nodes_csv(&sv.mesh, &sv.results)?);
     set.add("probes.csv", io::probes_csv(&sv.results)?);
     set.add("boundaries.csv", io::boundaries_csv(&sv.results)?);
@@ -276,6 +307,10 @@ pub fn output_files(sv: &Solved) -> Result<crate::io::OutputSet> {
     }
     let checks = serde_json::to_value(&sv.checks).map_err(|e| Error::run(e.to_string()))?;
     let model = s.resolved_json();
+    let mut extra = vec![("error_estimate", json_value(&sv.error_estimate)?)];
+    if !sv.adaptivity.is_empty() {
+        extra.push(("adaptivity", json_value(&sv.adaptivity)?));
+    }
     let run = serde_json::json!({
         "timings_s": sv.timings,
         "note": "the only part of this file that may change from run to run",
@@ -290,7 +325,100 @@ pub fn output_files(sv: &Solved) -> Result<crate::io::OutputSet> {
             checks: &checks,
             model: &model,
             run: &run,
+            extra: &extra,
         })?,
     );
     Ok(set)
+}
+
+fn json_value<T: Serialize>(v: &T) -> Result<serde_json::Value> {
+    serde_json::to_value(v).map_err(|e| Error::run(format!("internal: {e}")))
+}
+
+/// One cycle of adaptive refinement.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Cycle {
+    pub cycle: usize,
+    pub triangles: usize,
+    pub nodes: usize,
+    /// Relative energy-norm error estimate (Zienkiewicz–Zhu).
+    pub relative_error: f64,
+    pub energy_norm_error: f64,
+}
+
+/// Fraction of the squared error estimate the marked triangles must carry (Dörfler marking).
+pub const DORFLER_FRACTION: f64 = 0.5;
+/// Largest number of adaptive cycles.
+pub const MAX_CYCLES: usize = 30;
+
+/// Adaptive refinement: solve, estimate the error, refine where the indicator carries half the
+/// squared estimate (Dörfler marking), until the relative energy-norm estimate is at most
+/// `target` or the next mesh would exceed `opts.max_triangles`.
+pub fn solve_adaptive(prepared: Prepared, opts: &MeshOptions, target: f64) -> Result<Solved> {
+    if !(target.is_finite() && target > 0.0 && target < 1.0) {
+        return Err(Error::input(format!(
+            "--target-error = {target}: give a fraction between 0 and 1 (0.05 = 5 %)"
+        )));
+    }
+    let mut history = Vec::new();
+    let mut mesher = mesh::Mesher::new(&prepared.section, &prepared.pslg, opts)?;
+    let t0 = Instant::now();
+    mesher.refine(None, &[])?;
+    let mut current = solve_mesh(prepared.clone(), mesher.mesh()?, t0.elapsed().as_secs_f64())?;
+    loop {
+        let e = &current.error_estimate;
+        history.push(Cycle {
+            cycle: history.len(),
+            triangles: current.mesh.triangles.len(),
+            nodes: current.mesh.nodes.len(),
+            relative_error: e.relative,
+            energy_norm_error: e.energy_norm,
+        });
+        if e.relative <= target {
+            break;
+        }
+        if history.len() >= MAX_CYCLES {
+            current.warnings.push(format!(
+                "adaptive refinement stopped after {MAX_CYCLES} cycles at a relative error estimate of {:.3e} (target {target})",
+                e.relative
+            ));
+            break;
+        }
+        // Dörfler marking, largest indicators first (ties: lower triangle index); a point at
+        // the centroid of each marked triangle, then refinement restores the quality bounds.
+        let eta = &e.indicator;
+        let mut order: Vec<usize> = (0..eta.len()).collect();
+        order.sort_by(|&a, &b| eta[b].total_cmp(&eta[a]).then(a.cmp(&b)));
+        let total: f64 = eta.iter().map(|x| x * x).sum();
+        let mut acc = 0.0;
+        let mut points = Vec::new();
+        for &t in &order {
+            if acc >= DORFLER_FRACTION * total {
+                break;
+            }
+            acc += eta[t] * eta[t];
+            let [a, b, c] = current.mesh.triangles[t];
+            let (pa, pb, pc) = (
+                current.mesh.nodes[a],
+                current.mesh.nodes[b],
+                current.mesh.nodes[c],
+            );
+            points.push([(pa[0] + pb[0] + pc[0]) / 3.0, (pa[1] + pb[1] + pc[1]) / 3.0]);
+        }
+        // Each marked triangle becomes about three, before refinement adds its share.
+        if current.mesh.triangles.len() + 3 * points.len() > opts.max_triangles {
+            current.warnings.push(format!(
+                "adaptive refinement stopped at {} triangles (--max-triangles {}) with a relative error estimate of {:.3e}, above the target {target}",
+                current.mesh.triangles.len(),
+                opts.max_triangles,
+                e.relative
+            ));
+            break;
+        }
+        let t0 = Instant::now();
+        mesher.refine(None, &points)?;
+        current = solve_mesh(prepared.clone(), mesher.mesh()?, t0.elapsed().as_secs_f64())?;
+    }
+    current.adaptivity = history;
+    Ok(current)
 }

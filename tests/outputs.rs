@@ -80,9 +80,13 @@ fn demo_outputs_are_complete_and_read_back() {
         "model",
         "caution",
         "run",
+        "checks",
+        "error_estimate",
     ] {
         assert!(summary.get(key).is_some(), "summary.json lacks {key}");
     }
+    let rel = summary["error_estimate"]["relative"].as_f64().unwrap();
+    assert!(rel > 0.0 && rel < 1.0, "relative error estimate {rel}");
     let nodes = summary["nodes"].as_u64().unwrap() as usize;
     let triangles = summary["triangles"].as_u64().unwrap() as usize;
     // Heat flows in the summary sum with the source to zero (energy balance).
@@ -126,7 +130,12 @@ fn demo_outputs_are_complete_and_read_back() {
             "{name}: {point:?}"
         );
     }
-    for (name, comp) in [("heat_flux", 3), ("gradient", 3), ("material", 1)] {
+    for (name, comp) in [
+        ("heat_flux", 3),
+        ("gradient", 3),
+        ("material", 1),
+        ("error_indicator", 1),
+    ] {
         assert!(
             cell.contains(&(name.to_string(), comp, comp * triangles)),
             "{name}: {cell:?}"
