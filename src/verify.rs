@@ -432,13 +432,8 @@ impl ConvectiveRectangle {
     }
 }
 
-/// Rectangle with a fixed base, convection on one side and two insulated sides: Fourier series
-/// with Biot-number eigenvalues.
-fn convective_rectangle(out: &mut Vec<VerifyCase>) -> Result<()> {
-    let case = "convective_rectangle";
-    let s = solve(
-        case,
-        r#"
+/// The convective rectangle as a model file (grid-aligned, so the grid model takes it too).
+const CONVECTIVE_RECTANGLE: &str = r#"
 [mesh]
 max_area = 0.00002
 [materials.block]
@@ -462,8 +457,13 @@ at = [0.5, 0.4]
 [[probes]]
 name = "middle"
 at = [0.25, 0.2]
-"#,
-    )?;
+"#;
+
+/// Rectangle with a fixed base, convection on one side and two insulated sides: Fourier series
+/// with Biot-number eigenvalues.
+fn convective_rectangle(out: &mut Vec<VerifyCase>) -> Result<()> {
+    let case = "convective_rectangle";
+    let s = solve(case, CONVECTIVE_RECTANGLE)?;
     let exact = ConvectiveRectangle {
         length: 0.5,
         height: 0.4,
@@ -510,12 +510,84 @@ at = [0.25, 0.2]
 }
 
 // ---------------------------------------------------------------------------------------------
-// GRID-VERSUS-ELEMENT AGREEMENT — reserved.
-// When the grid module (`crate::grid`) is merged, add a case here that solves one model with
-// both methods and checks that they agree within the stated discretisation bounds, and call it
-// from `run_suite`. It is not a comparison with the outside world, so its source column must say
-// "internal consistency".
+// Grid-versus-element agreement
 // ---------------------------------------------------------------------------------------------
+
+/// The convective rectangle solved by the grid (5-point finite-difference) model as well: the
+/// grid model against the same series solution, and the two models against each other.
+fn grid_versus_element(out: &mut Vec<VerifyCase>) -> Result<()> {
+    let case = "grid_versus_element";
+    let s = solve(case, CONVECTIVE_RECTANGLE)?;
+    let g = crate::grid::build(s.section(), 0.005)
+        .and_then(|m| crate::grid::solve(&m))
+        .map_err(|e| Error::run(format!("verify {case}: {e}")))?;
+    let exact = ConvectiveRectangle {
+        length: 0.5,
+        height: 0.4,
+        conductivity: 1.0,
+        h: 2.0,
+        theta0: 50.0,
+    };
+    let grid_flow = g
+        .heat_flow
+        .iter()
+        .find(|(n, _)| n == "base")
+        .map(|(_, q)| *q)
+        .ok_or_else(|| Error::run(format!("verify {case}: grid model has no boundary base")))?;
+    let grid_middle = g.temperature_at([0.25, 0.2]).ok_or_else(|| {
+        Error::run(format!(
+            "verify {case}: grid model has no value at the middle"
+        ))
+    })?;
+    let series = "Carslaw & Jaeger 1959";
+    let series_detail = "grid model (5-point finite differences, spacing 5 mm, half-cell treatment of the insulated and convective edges) of the convective rectangle, against its series solution (see convective_rectangle)";
+    record(
+        out,
+        case,
+        series,
+        series_detail,
+        &s,
+        Check {
+            quantity: "grid:heat_flow:base",
+            unit: "W/m",
+            reference: exact.base_heat_flow(),
+            computed: grid_flow,
+            tolerance: 5e-3,
+            measure: ErrorMeasure::Relative,
+        },
+    );
+    record(
+        out,
+        case,
+        series,
+        series_detail,
+        &s,
+        Check {
+            quantity: "grid:probe:middle",
+            unit: "degC",
+            reference: 20.0 + exact.theta(0.25, 0.2),
+            computed: grid_middle,
+            tolerance: 0.02,
+            measure: ErrorMeasure::Absolute,
+        },
+    );
+    record(
+        out,
+        case,
+        "internal consistency",
+        "element solution (reference column) against the grid model (computed column) at the middle of the convective rectangle: two independent discretisations of one boundary-value problem",
+        &s,
+        Check {
+            quantity: "grid_minus_element:probe:middle",
+            unit: "degC",
+            reference: probe(&s, case, "middle")?,
+            computed: grid_middle,
+            tolerance: 0.02,
+            measure: ErrorMeasure::Absolute,
+        },
+    );
+    Ok(())
+}
 
 /// Runs every case. An error means a case could not be solved (a defect: exit 1); a failed
 /// comparison is recorded in the case.
@@ -527,6 +599,7 @@ pub fn run_suite() -> Result<VerifySuite> {
     fourier_rectangle(&mut cases)?;
     disk_with_source(&mut cases)?;
     convective_rectangle(&mut cases)?;
+    grid_versus_element(&mut cases)?;
     Ok(VerifySuite { cases })
 }
 
