@@ -473,10 +473,14 @@ pub struct ConvergenceStudy {
     pub warnings: Vec<String>,
 }
 
-fn fixed_circle_segments(ring: &mut model::RingFile, max_area: f64) -> Option<(f64, usize, bool)> {
+fn fixed_circle_segments(
+    ring: &mut model::RingFile,
+    boundaries: &std::collections::BTreeMap<String, model::BoundaryFile>,
+    max_area: f64,
+) -> Option<(f64, usize, bool)> {
+    let n = model::ring_circle_segments(ring, boundaries, max_area)?;
     let c = ring.circle.as_mut()?;
     let from_model = c.segments.is_some();
-    let n = model::circle_segments(c.radius, max_area, c.segments);
     c.segments = Some(n);
     Some((c.radius, n, from_model))
 }
@@ -486,7 +490,8 @@ fn fixed_circle_segments(ring: &mut model::RingFile, max_area: f64) -> Option<(f
 /// temperature, every boundary heat flow and the temperature extremes.
 ///
 /// Circles keep the segment count of the finest level at every level (or the model's own
-/// `segments`), so all levels mesh the same polygon.
+/// `segments`), so all levels mesh the same polygon. Materials' `max_area` and boundaries'
+/// `size` are refined with the global limit (areas / 4, lengths / 2 per level).
 pub fn convergence_study(
     prepared: &Prepared,
     levels: usize,
@@ -511,19 +516,26 @@ pub fn convergence_study(
 
     // The model with circle segment counts fixed at the finest level's value.
     let mut model = prepared.model.clone();
+    let finest_scale = 4f64.powi(levels as i32 - 1);
+    let mut boundaries = model.boundaries.clone();
+    for b in boundaries.values_mut() {
+        b.size = b.size.map(|h| h / finest_scale.sqrt());
+    }
     let mut circles = Vec::new();
     if let Some(o) = model.outline.as_mut()
-        && let Some((radius, segments, from_model)) = fixed_circle_segments(o, finest)
+        && let Some((radius, segments, from_model)) = fixed_circle_segments(o, &boundaries, finest)
     {
         circles.push(("outline".to_string(), radius, segments, from_model));
     }
     for (i, r) in model.regions.iter_mut().enumerate() {
-        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, finest) {
+        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, &boundaries, finest)
+        {
             circles.push((format!("regions[{i}]"), radius, segments, from_model));
         }
     }
     for (i, r) in model.holes.iter_mut().enumerate() {
-        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, finest) {
+        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, &boundaries, finest)
+        {
             circles.push((format!("holes[{i}]"), radius, segments, from_model));
         }
     }
@@ -552,6 +564,14 @@ pub fn convergence_study(
         let max_area = base / 4f64.powi(level as i32);
         let mut m = model.clone();
         m.mesh.max_area = Some(max_area);
+        // Local size controls refine with the global limit: areas / 4, lengths / 2 per level.
+        let scale = 4f64.powi(level as i32);
+        for mat in m.materials.values_mut() {
+            mat.max_area = mat.max_area.map(|a| a / scale);
+        }
+        for b in m.boundaries.values_mut() {
+            b.size = b.size.map(|h| h / scale.sqrt());
+        }
         let p = run::prepare_model(m)?;
         let sv = run::solve(p, opts)?;
         if let Some(e) = run::failed_checks_error(&sv) {

@@ -407,6 +407,30 @@ pub fn circle_segments(radius: f64, max_area: f64, given: Option<usize>) -> usiz
     }
 }
 
+/// Segment count of a ring written as a circle (`None` for a polygon): `segments` if given,
+/// else [`circle_segments`] raised to ⌈2πr/size⌉ when the circle's boundary has a `size`.
+pub fn ring_circle_segments(
+    r: &RingFile,
+    boundaries: &BTreeMap<String, BoundaryFile>,
+    max_area: f64,
+) -> Option<usize> {
+    let c = r.circle.as_ref()?;
+    let mut n = circle_segments(c.radius, max_area, c.segments);
+    let size = r
+        .boundary
+        .as_ref()
+        .and_then(|b| boundaries.get(b))
+        .and_then(|b| b.size)
+        .filter(|s| s.is_finite() && *s > 0.0);
+    if let (Some(s), None) = (size, c.segments) {
+        let k = (2.0 * std::f64::consts::PI * c.radius / s).ceil();
+        if k.is_finite() && k as usize > n {
+            n = (k as usize).min(1_000_000);
+        }
+    }
+    Some(n)
+}
+
 /// Raw area of a ring as written (|shoelace| of the points, or πr²), for the default size.
 fn raw_area(r: &RingFile) -> f64 {
     if let Some(c) = &r.circle {
@@ -501,20 +525,7 @@ fn build_ring(
                 "{label}: `edges` needs `points`; name a circle's boundary with `boundary = \"...\"`"
             )));
         }
-        // A boundary `size` on the circle's boundary refines its polygon too.
-        let size = r
-            .boundary
-            .as_ref()
-            .and_then(|b| ctx.boundaries.get(b))
-            .and_then(|b| b.size)
-            .filter(|s| s.is_finite() && *s > 0.0);
-        let mut n = circle_segments(c.radius, ctx.max_area, c.segments);
-        if let (Some(s), None) = (size, c.segments) {
-            let k = (2.0 * std::f64::consts::PI * c.radius / s).ceil();
-            if k.is_finite() && k as usize > n {
-                n = (k as usize).min(1_000_000);
-            }
-        }
+        let n = ring_circle_segments(r, ctx.boundaries, ctx.max_area).unwrap_or(24);
         let pts = (0..n)
             .map(|k| {
                 let a = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
