@@ -164,6 +164,18 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                 None => run::solve(p, &o)?,
             };
             let text = report::solve_report(&solved);
+            for c in solved.checks.iter().filter(|c| !c.passed) {
+                eprintln!(
+                    "{}: self-check {} failed: {}",
+                    if c.severity == "error" {
+                        "ERROR"
+                    } else {
+                        "WARNING"
+                    },
+                    c.name,
+                    c.detail
+                );
+            }
             if let Some(e) = run::failed_checks_error(&solved) {
                 print!("{text}");
                 return Err(e);
