@@ -29,6 +29,7 @@ enum Command {
     },
     /// Mesh only; write the mesh as VTK (.vtu) and print its quality.
     Mesh {
+        /// Model file (TOML).
         model: PathBuf,
         /// Output file (.vtu).
         #[arg(long)]
@@ -38,6 +39,7 @@ enum Command {
     },
     /// Mesh, solve and write the field, heat flows, probes and lines into a directory.
     Solve {
+        /// Model file (TOML).
         model: PathBuf,
         /// Output directory (created if missing; only the files written are replaced).
         #[arg(long)]
@@ -53,6 +55,7 @@ enum Command {
     /// Mesh convergence study: solve on LEVELS meshes (max_area divided by 4 each) and write the
     /// observed order, Richardson extrapolation and GCI of every probe, heat flow and extreme.
     Converge {
+        /// Model file (TOML).
         model: PathBuf,
         /// Number of meshes, at least 3.
         #[arg(long, default_value_t = 3)]
@@ -73,6 +76,7 @@ enum Command {
     /// Cross-check: solve the grid (finite-difference) model and the element model of the
     /// section and compare them node by node and boundary by boundary.
     Gridcheck {
+        /// Model file (TOML).
         model: PathBuf,
         /// Grid spacing h, m; repeat for a table of the difference against h.
         #[arg(long, required = true, allow_negative_numbers = true)]
@@ -91,6 +95,7 @@ enum Command {
     },
     /// Cross-check: compare your own grid results (CSV x,y,temperature) with the element field.
     Compare {
+        /// Model file (TOML).
         model: PathBuf,
         /// CSV with header x,y,temperature (m, m, °C); further columns are ignored.
         #[arg(long)]
