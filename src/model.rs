@@ -315,7 +315,7 @@ fn edit_distance(a: &str, b: &str) -> usize {
 
 /// The candidate nearest to `name`, if it is near enough to be a likely misspelling.
 pub fn suggest<'a>(name: &str, candidates: impl Iterator<Item = &'a str>) -> Option<&'a str> {
-    let limit = (name.chars().count() / 3).max(2);
+    let limit = (name.chars().count().div_ceil(3)).max(2);
     candidates
         .map(|c| (edit_distance(&name.to_lowercase(), &c.to_lowercase()), c))
         .filter(|(d, _)| *d <= limit)
@@ -1067,5 +1067,103 @@ impl Section {
             }
         }
         ((hi[0] - lo[0]).powi(2) + (hi[1] - lo[1]).powi(2)).sqrt()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn suggestions_for_misspellings() {
+        let keys = [
+            "title",
+            "mesh",
+            "materials",
+            "outline",
+            "boundaries",
+            "probes",
+        ];
+        assert_eq!(suggest("boundary", keys.into_iter()), Some("boundaries"));
+        assert_eq!(suggest("materail", keys.into_iter()), Some("materials"));
+        assert_eq!(suggest("Outline", keys.into_iter()), Some("outline"));
+        assert_eq!(suggest("xyzzy", keys.into_iter()), None);
+        assert_eq!(edit_distance("kitten", "sitting"), 3);
+    }
+
+    #[test]
+    fn unknown_top_level_table_names_line_and_suggests() {
+        let e = parse("title = \"x\"\n[boundary.a]\nkind = \"fixed\"\n").unwrap_err();
+        let m = e.message();
+        assert!(m.contains("line 2"), "{m}");
+        assert!(m.contains("did you mean `boundaries`"), "{m}");
+        assert_eq!(e.exit_code(), 2);
+    }
+
+    #[test]
+    fn circle_segment_rule() {
+        // N = max(24, ⌈2πr/ℓ⌉), ℓ = (4·A/√3)^½: for A = 0.01, ℓ = 0.15197 m, r = 1 → 42.
+        assert_eq!(circle_segments(1.0, 0.01, None), 42);
+        assert_eq!(circle_segments(0.1, 0.01, None), 24);
+        assert_eq!(circle_segments(1.0, 0.01, Some(7)), 7);
+    }
+
+    #[test]
+    fn clockwise_rings_are_reoriented_with_their_names() {
+        let text = r#"
+[materials.a]
+conductivity = 1.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [0.0, 1.0], [1.0, 1.0], [1.0, 0.0]]
+edges = ["left", "top", "right", "bottom"]
+[boundaries.left]
+kind = "fixed"
+temperature = 0.0
+[boundaries.top]
+kind = "insulated"
+[boundaries.right]
+kind = "insulated"
+[boundaries.bottom]
+kind = "insulated"
+"#;
+        let s = validate(&parse(text).unwrap()).unwrap();
+        let r = &s.outline;
+        assert!(signed_area(&r.points) > 0.0);
+        // Each segment keeps its name: find the segment from (0,1) to (0,0) (left, reversed).
+        let name = |i: usize| r.edge_boundary[i].map(|b| s.boundaries[b].name.clone());
+        for i in 0..4 {
+            let (a, b) = r.segment(i);
+            let expected = match (a, b) {
+                ([0.0, 1.0], [0.0, 0.0]) => "left",
+                ([1.0, 1.0], [0.0, 1.0]) => "top",
+                ([1.0, 0.0], [1.0, 1.0]) => "right",
+                ([0.0, 0.0], [1.0, 0.0]) => "bottom",
+                _ => panic!("unexpected segment {a:?} → {b:?}"),
+            };
+            assert_eq!(name(i).as_deref(), Some(expected));
+        }
+    }
+
+    #[test]
+    fn repeated_points_are_dropped_with_a_warning() {
+        let text = r#"
+[materials.a]
+conductivity = 1.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [1.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0], [0.0, 0.0]]
+edges = ["b", "", "b", "b", "b", "gone"]
+[boundaries.b]
+kind = "fixed"
+temperature = 0.0
+[boundaries.gone]
+kind = "insulated"
+"#;
+        let s = validate(&parse(text).unwrap()).unwrap();
+        assert_eq!(s.outline.len(), 4);
+        assert!(s.outline.edge_boundary.iter().all(|b| b.is_some()));
+        assert!(s.warnings.iter().any(|w| w.contains("repeats point 1")));
+        assert!(s.warnings.iter().any(|w| w.contains("\"gone\"")));
     }
 }
