@@ -30,6 +30,8 @@ pub struct BoundaryEdge {
 pub struct SmallInputAngle {
     pub at: [f64; 2],
     pub angle_deg: f64,
+    /// Triangles with their centroid within this distance, m, count as next to it.
+    pub radius: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -39,7 +41,8 @@ pub struct MeshStats {
     pub boundary_edges: usize,
     /// Smallest angle over all triangles, degrees.
     pub min_angle_deg: f64,
-    /// Smallest angle over triangles that do not touch a small input angle, degrees.
+    /// Smallest angle over triangles not next to a small input angle (not touching its vertex,
+    /// centroid outside its `radius`), degrees.
     pub min_angle_away_from_small_input_angles_deg: f64,
     /// m²
     pub max_area: f64,
@@ -156,13 +159,16 @@ pub fn min_angle_of(p: [[f64; 2]; 3]) -> f64 {
 
 /// Input angles (between constraint pieces meeting at a vertex, inside the section) smaller
 /// than `limit` degrees: (vertex, angle).
-fn small_input_angles(pslg: &Pslg, used: &[usize], limit: f64) -> Vec<(usize, f64)> {
-    let mut incident: Vec<Vec<(f64, Zone)>> = vec![Vec::new(); pslg.vertices.len()];
+/// Input angles (between constraint pieces meeting at a vertex, inside the section) smaller
+/// than `limit` degrees: (vertex, angle in degrees, length of the shorter of the two pieces).
+fn small_input_angles(pslg: &Pslg, used: &[usize], limit: f64) -> Vec<(usize, f64, f64)> {
+    let mut incident: Vec<Vec<(f64, Zone, f64)>> = vec![Vec::new(); pslg.vertices.len()];
     for p in &pslg.pieces {
         let [a, b] = p.v;
         let (pa, pb) = (pslg.vertices[a], pslg.vertices[b]);
-        incident[a].push(((pb[1] - pa[1]).atan2(pb[0] - pa[0]), p.left));
-        incident[b].push(((pa[1] - pb[1]).atan2(pa[0] - pb[0]), p.right));
+        let len = ((pb[0] - pa[0]).powi(2) + (pb[1] - pa[1]).powi(2)).sqrt();
+        incident[a].push(((pb[1] - pa[1]).atan2(pb[0] - pa[0]), p.left, len));
+        incident[b].push(((pa[1] - pb[1]).atan2(pa[0] - pb[0]), p.right, len));
     }
     let mut out = Vec::new();
     for &v in used {
@@ -171,21 +177,21 @@ fn small_input_angles(pslg: &Pslg, used: &[usize], limit: f64) -> Vec<(usize, f6
             continue;
         }
         inc.sort_by(|x, y| x.0.total_cmp(&y.0));
-        let mut smallest: Option<f64> = None;
+        let mut smallest: Option<(f64, f64)> = None;
         for i in 0..inc.len() {
-            let (a0, zone) = inc[i];
-            let a1 = inc[(i + 1) % inc.len()].0;
+            let (a0, zone, l0) = inc[i];
+            let (a1, _, l1) = inc[(i + 1) % inc.len()];
             let mut w = a1 - a0;
             if w <= 0.0 {
                 w += 2.0 * std::f64::consts::PI;
             }
             let w = w.to_degrees();
-            if zone.is_some() && w < limit {
-                smallest = Some(smallest.map_or(w, |s: f64| s.min(w)));
+            if zone.is_some() && w < limit && smallest.is_none_or(|(s, _)| w < s) {
+                smallest = Some((w, l0.min(l1)));
             }
         }
-        if let Some(w) = smallest {
-            out.push((v, w));
+        if let Some((w, l)) = smallest {
+            out.push((v, w, l));
         }
     }
     out
@@ -394,7 +400,7 @@ pub struct Mesher<'a> {
     cdt: Cdt,
     cons: Vec<Constraint>,
     classified: Classified,
-    small: Vec<(usize, f64)>,
+    small: Vec<(usize, f64, f64)>,
     to_cdt: Vec<usize>,
     zone_limit: Vec<f64>,
     n_input: usize,
@@ -632,7 +638,7 @@ impl<'a> Mesher<'a> {
         let mut angle_passes = 0;
         // Triangulation vertices at input angles too small for the angle limit.
         let mut small_cdt = vec![false; n_input];
-        for &(v, _) in small.iter() {
+        for &(v, _, _) in small.iter() {
             small_cdt[to_cdt[v]] = true;
         }
         loop {
@@ -767,7 +773,7 @@ fn extract(
     pslg: &Pslg,
     cdt: &Cdt,
     cl: &Classified,
-    small: &[(usize, f64)],
+    small: &[(usize, f64, f64)],
     to_cdt: &[usize],
 ) -> Result<Mesh> {
     let _ = section;
@@ -844,9 +850,17 @@ fn extract(
         }
     }
 
-    // Quality statistics.
+    // Quality statistics. Next to a small input angle θ, Delaunay refinement leaves skinny
+    // triangles in the wedge out to where its opening reaches the mesh size: triangles touching
+    // the vertex or with their centroid within R = min(2ℓ/θ, shorter side) of it are "next to"
+    // it (ℓ: edge of an equilateral triangle of area max_area).
+    let ell = (4.0 * section.mesh.max_area / 3f64.sqrt()).sqrt();
+    let exclusion: Vec<([f64; 2], f64)> = small
+        .iter()
+        .map(|&(v, angle, side)| (pslg.vertices[v], (2.0 * ell / angle.to_radians()).min(side)))
+        .collect();
     let mut small_nodes = vec![false; nodes.len()];
-    for &(pv, _) in small {
+    for &(pv, _, _) in small {
         let n = node_of[to_cdt[pv]];
         if n != usize::MAX {
             small_nodes[n] = true;
@@ -864,9 +878,10 @@ fn extract(
         worst_triangle_centroid: [0.0; 2],
         small_input_angles: small
             .iter()
-            .map(|&(v, a)| SmallInputAngle {
+            .map(|&(v, a, side)| SmallInputAngle {
                 at: pslg.vertices[v],
                 angle_deg: a,
+                radius: (2.0 * ell / a.to_radians()).min(side),
             })
             .collect(),
         area: 0.0,
@@ -886,7 +901,14 @@ fn extract(
                 (p[0][1] + p[1][1] + p[2][1]) / 3.0,
             ];
         }
-        if !tri.iter().any(|&n| small_nodes[n]) {
+        let c = [
+            (p[0][0] + p[1][0] + p[2][0]) / 3.0,
+            (p[0][1] + p[1][1] + p[2][1]) / 3.0,
+        ];
+        let near = exclusion
+            .iter()
+            .any(|(q, r)| (c[0] - q[0]).powi(2) + (c[1] - q[1]).powi(2) <= r * r);
+        if !near && !tri.iter().any(|&n| small_nodes[n]) {
             stats.min_angle_away_from_small_input_angles_deg =
                 stats.min_angle_away_from_small_input_angles_deg.min(m);
         }

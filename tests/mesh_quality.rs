@@ -264,3 +264,40 @@ kind = "insulated"
         m.stats.triangles
     );
 }
+
+#[test]
+fn small_input_angles_are_reported_and_excluded() {
+    // A wedge with a 10° tip: the angle bound cannot hold next to it.
+    let tip = 10f64.to_radians();
+    let text = format!(
+        r#"
+[mesh]
+max_area = 0.002
+min_angle = 28
+[materials.a]
+conductivity = 1.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [1.0, 0.0], [{}, {}]]
+edges = ["fixed", "air", "air"]
+[boundaries.fixed]
+kind = "fixed"
+temperature = 0.0
+[boundaries.air]
+kind = "convection"
+h = 5.0
+ambient = 20.0
+"#,
+        tip.cos(),
+        tip.sin()
+    );
+    let p = prepare(&text);
+    let m = run::mesh(&p, &MeshOptions::default()).unwrap();
+    let small = &m.stats.small_input_angles;
+    // Only the 10° tip lies below 2 × 28°; the other two corners have 85°.
+    assert_eq!(small.len(), 1, "{small:?}");
+    assert!((small[0].angle_deg - 10.0).abs() < 1e-9);
+    assert!(small[0].at == [0.0, 0.0]);
+    assert!(m.stats.min_angle_deg < 28.0);
+    assert!(m.stats.min_angle_away_from_small_input_angles_deg >= 28.0 - 1e-9);
+}

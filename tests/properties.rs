@@ -141,7 +141,7 @@ fn model_text(c: &Case) -> Option<String> {
 #[test]
 fn random_sections_mesh_within_bounds_and_balance_energy() {
     let config = Config {
-        cases: 300,
+        cases: 400,
         failure_persistence: None,
         ..Config::default()
     };
@@ -167,6 +167,13 @@ fn random_sections_mesh_within_bounds_and_balance_energy() {
             // Sections whose segments meet at angles below the limit (a region edge cutting a
             // hole or the outline at a shallow angle) cannot hold the angle bound near those
             // vertices; the bound is asserted on the others, over every triangle.
+            prop_assert!(
+                st.min_angle_away_from_small_input_angles_deg >= limit_angle - 1e-9,
+                "min angle away from small input angles {} < {}\n{}",
+                st.min_angle_away_from_small_input_angles_deg,
+                limit_angle,
+                text
+            );
             if st.small_input_angles.is_empty() {
                 prop_assert!(
                     st.min_angle_deg >= limit_angle - 1e-9,
