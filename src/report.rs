@@ -166,13 +166,13 @@ pub fn mesh_report(s: &Section, m: &Mesh) -> String {
         for a in &st.small_input_angles {
             let _ = writeln!(
                 o,
-                "  {:.3}° at ({:.6}, {:.6})",
-                a.angle_deg, a.at[0], a.at[1]
+                "  {:.3}° at ({:.6}, {:.6}), triangles within {:.4e} m count as next to it",
+                a.angle_deg, a.at[0], a.at[1], a.radius
             );
         }
         let _ = writeln!(
             o,
-            "min angle away from those vertices {:.3}°",
+            "min angle away from them {:.3}°",
             st.min_angle_away_from_small_input_angles_deg
         );
     }
