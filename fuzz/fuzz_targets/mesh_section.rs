@@ -108,9 +108,12 @@ fn boundary(u: &mut Unstructured, diag: f64) -> Result<BoundaryFile> {
             ..Default::default()
         },
     };
-    if u.ratio(1u8, 4)? {
+    match u.int_in_range(0u8..=39)? {
         // Target edge length between diag/4 and diag/60.
-        b.size = Some(diag / f64::from(u.int_in_range(4u8..=60)?));
+        0..=9 => b.size = Some(diag / f64::from(u.int_in_range(4u8..=60)?)),
+        // Rarely absurdly small: the triangle limit must refuse it, quickly.
+        10 => b.size = Some(diag * 1e-12),
+        _ => {}
     }
     Ok(b)
 }
@@ -160,7 +163,11 @@ fn model(u: &mut Unstructured) -> Result<ModelFile> {
         ..Default::default()
     };
     if u.ratio(1u8, 2)? {
-        outline.edges = Some((0..pts.len()).map(|_| edge_name(u)).collect::<Result<_>>()?);
+        outline.edges = Some(
+            (0..pts.len())
+                .map(|_| edge_name(u))
+                .collect::<Result<_>>()?,
+        );
     } else {
         outline.boundary = Some(edge_name(u)?);
     }
@@ -200,7 +207,8 @@ fn model(u: &mut Unstructured) -> Result<ModelFile> {
     // Small meshes: about 200 triangles' worth of the bounding box (at least a lattice cell's).
     let bbox_area = if w * h > 0.0 { w * h } else { scale * scale };
     m.mesh.max_area = Some(bbox_area / 200.0);
-    m.mesh.min_angle = [None, Some(20.0), Some(30.0), Some(33.0)][usize::from(u.int_in_range(0u8..=3)?)];
+    m.mesh.min_angle =
+        [None, Some(20.0), Some(30.0), Some(33.0)][usize::from(u.int_in_range(0u8..=3)?)];
     for (i, mat) in m.materials.values_mut().enumerate() {
         if i > 0 && u.ratio(1u8, 4)? {
             mat.max_area = Some(bbox_area / 1000.0);
