@@ -33,3 +33,23 @@ size = 1e-11
     assert_eq!(err.exit_code(), 2, "{err}");
     assert!(err.message().contains("boundaries' size"), "{err}");
 }
+
+/// mesh_section: a section micrometres wide 100 km from the origin. The snapping tolerance
+/// (10⁻⁹ of the diameter) makes the vertex pool's grid keys saturate at the i64 range, and the
+/// neighbour-cell key `k + 1` overflowed (a panic with overflow checks, as in debug builds and
+/// the fuzz build; silent wrapping in release). The keys now saturate.
+#[test]
+fn tiny_section_far_from_origin_builds() {
+    let text = r#"
+[mesh]
+max_area = 1e-14
+[materials.m]
+conductivity = 1.6
+[outline]
+material = "m"
+points = [[100000.000003, -99999.999999], [100000.000002, -99999.999999], [100000.000003, -99999.999997]]
+"#;
+    let prepared = run::prepare_model(parse(text).unwrap()).unwrap();
+    assert_eq!(prepared.pslg.vertices.len(), 3);
+    assert_eq!(prepared.pslg.pieces.len(), 3);
+}

@@ -222,6 +222,10 @@ fuzz_target!(|data: &[u8]| {
     let Ok(m) = model(&mut u) else {
         return;
     };
+    // To write a regression test: print the model of an artifact.
+    if std::env::var_os("XSHEAT_FUZZ_PRINT").is_some() {
+        eprintln!("{m:#?}");
+    }
     let Ok(prepared) = xsheat::run::prepare_model(m) else {
         return;
     };
