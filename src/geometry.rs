@@ -250,7 +250,10 @@ impl VertexPool {
         let mut best: Option<(f64, usize)> = None;
         for dx in -1..=1 {
             for dy in -1..=1 {
-                if let Some(list) = self.grid.get(&(kx + dx, ky + dy)) {
+                // Saturating: far from the origin relative to the tolerance, the keys saturate
+                // at the i64 range (a section micrometres wide 100 km from the origin).
+                let cell = (kx.saturating_add(dx), ky.saturating_add(dy));
+                if let Some(list) = self.grid.get(&cell) {
                     for &i in list {
                         let d = dist(self.points[i], p);
                         if d <= self.tol

@@ -445,6 +445,23 @@ impl<'a> Mesher<'a> {
             .iter()
             .map(|&i| Point2::new(pslg.vertices[i][0], pslg.vertices[i][1]))
             .collect();
+        // Refuse a boundary `size` that asks for more triangles than the limit before
+        // splitting the pieces: a tiny size would otherwise allocate millions of vertices first.
+        {
+            let mut estimate = 0.0;
+            for p in &pslg.pieces {
+                if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
+                    let (pa, pb) = (pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]);
+                    estimate += 4.0 * (pb[0] - pa[0]).hypot(pb[1] - pa[1]) / s;
+                }
+            }
+            if estimate > opts.max_triangles as f64 {
+                return Err(Error::input(format!(
+                    "mesh: the boundaries' size would give about {estimate:.0} triangles along the boundaries alone, above the limit of {}; raise the boundaries' size or pass --max-triangles",
+                    opts.max_triangles
+                )));
+            }
+        }
         let mut cons = Vec::with_capacity(pslg.pieces.len());
         for (pi, p) in pslg.pieces.iter().enumerate() {
             let (a, b) = (to_cdt[p.v[0]], to_cdt[p.v[1]]);
