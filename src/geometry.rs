@@ -124,6 +124,9 @@ struct RingView<'a> {
     ring: &'a Ring,
     lo: [f64; 2],
     hi: [f64; 2],
+    /// Edges by horizontal slab of the bounding box (an edge in every slab its y-range
+    /// overlaps), so a crossing-number test reads only the edges near the query's y.
+    slabs: Vec<Vec<u32>>,
 }
 
 impl<'a> RingView<'a> {
@@ -136,14 +139,56 @@ impl<'a> RingView<'a> {
                 hi[k] = hi[k].max(p[k]);
             }
         }
-        RingView { id, ring, lo, hi }
+        let n = ring.len();
+        let count = (n / 4).clamp(1, 1 << 18);
+        let mut slabs = vec![Vec::new(); count];
+        let height = hi[1] - lo[1];
+        let slab = |y: f64| -> usize {
+            if height > 0.0 {
+                (((y - lo[1]) / height * count as f64) as usize).min(count - 1)
+            } else {
+                0
+            }
+        };
+        for i in 0..n {
+            let (a, b) = ring.segment(i);
+            let (s0, s1) = (slab(a[1].min(b[1])), slab(a[1].max(b[1])));
+            for list in &mut slabs[s0..=s1] {
+                list.push(i as u32);
+            }
+        }
+        RingView {
+            id,
+            ring,
+            lo,
+            hi,
+            slabs,
+        }
     }
+
     fn contains(&self, p: [f64; 2]) -> bool {
-        p[0] >= self.lo[0]
-            && p[0] <= self.hi[0]
-            && p[1] >= self.lo[1]
-            && p[1] <= self.hi[1]
-            && point_in_ring(&self.ring.points, p)
+        if !(p[0] >= self.lo[0] && p[0] <= self.hi[0] && p[1] >= self.lo[1] && p[1] <= self.hi[1]) {
+            return false;
+        }
+        let count = self.slabs.len();
+        let height = self.hi[1] - self.lo[1];
+        let k = if height > 0.0 {
+            (((p[1] - self.lo[1]) / height * count as f64) as usize).min(count - 1)
+        } else {
+            0
+        };
+        // The same crossing rule as `point_in_ring`, over the edges of p's slab only.
+        let mut inside = false;
+        for &i in &self.slabs[k] {
+            let (b, a) = self.ring.segment(i as usize);
+            if (a[1] > p[1]) != (b[1] > p[1]) {
+                let x = a[0] + (p[1] - a[1]) / (b[1] - a[1]) * (b[0] - a[0]);
+                if p[0] < x {
+                    inside = !inside;
+                }
+            }
+        }
+        inside
     }
 }
 
@@ -643,17 +688,19 @@ pub fn build(section: &Section) -> Result<Pslg> {
     }
     for (i, l) in section.lines.iter().enumerate() {
         let n = l.samples;
-        let any_inside = (0..n).any(|k| {
+        let sample = |k: usize| {
             let t = k as f64 / (n - 1) as f64;
-            let p = [
+            [
                 l.from[0] + t * (l.to[0] - l.from[0]),
                 l.from[1] + t * (l.to[1] - l.from[1]),
-            ];
-            classifier.zone(p).is_some() || {
-                let (d, ring, _) = classifier.nearest_boundary(p);
+            ]
+        };
+        // Point-in-polygon first (fast); the nearest-boundary search only if that finds none.
+        let any_inside = (0..n).any(|k| classifier.zone(sample(k)).is_some())
+            || (0..n).any(|k| {
+                let (d, ring, _) = classifier.nearest_boundary(sample(k));
                 d <= probe_tolerance(section, ring, tol)
-            }
-        });
+            });
         if !any_inside {
             return Err(Error::input(format!(
                 "lines[{i}] \"{}\": no sample lies inside the section",
@@ -760,6 +807,30 @@ kind = "insulated"
                 assert!(q[0] <= 4.0 + 1e-12 && q[1] >= -1e-12);
             }
         }
+    }
+
+    #[test]
+    fn slab_index_agrees_with_the_plain_crossing_test() {
+        let s = section(&format!(
+            "{BASE}[[holes]]\ncircle = {{ center = [2.0, 1.0], radius = 0.7, segments = 999 }}\nboundary = \"side\"\n[[regions]]\nmaterial = \"b\"\npoints = [[0.5, 0.2], [3.5, 0.3], [1.0, 1.9]]\n"
+        ));
+        let c = Classifier::new(&s);
+        let mut k = 0u64;
+        for i in 0..200 {
+            for j in 0..100 {
+                let p = [-0.1 + 4.2 * i as f64 / 199.0, -0.1 + 2.2 * j as f64 / 99.0];
+                for v in c
+                    .holes
+                    .iter()
+                    .chain(c.regions.iter())
+                    .chain(std::iter::once(&c.outline))
+                {
+                    assert_eq!(v.contains(p), point_in_ring(&v.ring.points, p), "{p:?}");
+                    k += 1;
+                }
+            }
+        }
+        assert_eq!(k, 60_000);
     }
 
     #[test]

@@ -15,6 +15,13 @@ pub const DEFAULT_MIN_ANGLE: f64 = 28.0;
 pub const MAX_MIN_ANGLE: f64 = 33.0;
 /// Default triangle limit (change with `--max-triangles`).
 pub const DEFAULT_MAX_TRIANGLES: usize = 5_000_000;
+/// Most points all rings together may hold (circles included): beyond it the section is not a
+/// cross-section an engineer draws, and the geometry checks would take minutes.
+pub const MAX_RING_POINTS: usize = 1_000_000;
+/// Most segments of one circle. Points on a circle are a near-degenerate case for Delaunay
+/// triangulation (every four of them almost cocircular): the time to triangulate a circular hole
+/// grows with the square of its segment count, a few seconds at this limit.
+pub const MAX_CIRCLE_SEGMENTS: usize = 20_000;
 /// Absolute zero, °C.
 pub const ABSOLUTE_ZERO_C: f64 = -273.15;
 
@@ -514,10 +521,10 @@ fn build_ring(
             )));
         }
         if let Some(n) = c.segments
-            && !(3..=1_000_000).contains(&n)
+            && !(3..=MAX_CIRCLE_SEGMENTS).contains(&n)
         {
             return Err(Error::input(format!(
-                "{label}: circle segments = {n} must lie in 3..=1000000"
+                "{label}: circle segments = {n} must lie in 3..={MAX_CIRCLE_SEGMENTS}"
             )));
         }
         if r.edges.is_some() {
@@ -526,6 +533,11 @@ fn build_ring(
             )));
         }
         let n = ring_circle_segments(r, ctx.boundaries, ctx.max_area).unwrap_or(24);
+        if n > MAX_CIRCLE_SEGMENTS {
+            return Err(Error::input(format!(
+                "{label}: the circle would have {n} segments (from max_area or the boundary's size), above the limit of {MAX_CIRCLE_SEGMENTS}; give `segments`, or raise max_area or the boundary's size"
+            )));
+        }
         let pts = (0..n)
             .map(|k| {
                 let a = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
@@ -893,6 +905,17 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         let material = material_of(&label, &r.material)?;
         let ring = build_ring(&label, r, &region_ctx, &mut warnings)?;
         regions.push(Region { ring, material });
+    }
+
+    let total: usize = std::iter::once(&outline)
+        .chain(holes.iter())
+        .chain(regions.iter().map(|r| &r.ring))
+        .map(|r| r.len())
+        .sum();
+    if total > MAX_RING_POINTS {
+        return Err(Error::input(format!(
+            "the rings hold {total} points in total, above the limit of {MAX_RING_POINTS}; give circles fewer `segments`, or raise max_area or the boundaries' size"
+        )));
     }
 
     // Unnamed segments and unused boundaries.

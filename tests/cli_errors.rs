@@ -221,8 +221,19 @@ fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
         ),
         (
             "too-many-triangles",
-            replace("max_area = 0.05", "max_area = 1e-9"),
+            replace("max_area = 0.05", "max_area = 1e-9")
+                .replace("radius = 0.3 }", "radius = 0.3, segments = 48 }"),
             &["max_area", "triangles", "--max-triangles"],
+        ),
+        (
+            "circle-too-many-segments",
+            replace("max_area = 0.05", "max_area = 1e-9"),
+            &["holes[0]", "segments", "20000"],
+        ),
+        (
+            "circle-segments-given-too-many",
+            replace("radius = 0.3 }", "radius = 0.3, segments = 50000 }"),
+            &["holes[0]", "segments = 50000"],
         ),
         (
             "circle-radius",
