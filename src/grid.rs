@@ -1028,8 +1028,7 @@ impl GridSolution {
 /// Grid points outside the section are omitted.
 pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
     use vtkio::model::{
-        Attribute, Attributes, ByteOrder, CellType, Cells, DataSet, Piece, UnstructuredGridPiece,
-        Version, VertexNumbers, Vtk,
+        Attribute, Attributes, CellType, Cells, UnstructuredGridPiece, VertexNumbers,
     };
     if solution.temperature.len() != model.nodes.len() {
         return Err(Error::run(format!(
@@ -1084,23 +1083,7 @@ pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
             cell: vec![],
         },
     };
-    let vtk = Vtk {
-        version: Version::new((1, 0)),
-        title: "grid".to_string(),
-        byte_order: ByteOrder::LittleEndian,
-        data: DataSet::UnstructuredGrid {
-            meta: None,
-            pieces: vec![Piece::Inline(Box::new(piece))],
-        },
-        file_path: None,
-    };
-    let mut out = Vec::new();
-    vtk.write_xml(&mut out)
-        .map_err(|e| Error::run(format!("cannot encode VTK XML (grid): {e}")))?;
-    if !out.ends_with(b"\n") {
-        out.push(b'\n');
-    }
-    Ok(out)
+    crate::io::encode_vtu("grid", piece)
 }
 
 #[cfg(test)]

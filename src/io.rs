@@ -348,6 +348,12 @@ fn unstructured_vtu(mesh: &Mesh, title: &str, data: Attributes) -> Result<Vec<u8
         },
         data,
     };
+    encode_vtu(title, piece)
+}
+
+/// One unstructured-grid piece as VTK XML (`.vtu`) bytes: little-endian, base64 binary arrays,
+/// a trailing newline.
+pub fn encode_vtu(title: &str, piece: UnstructuredGridPiece) -> Result<Vec<u8>> {
     let vtk = Vtk {
         version: Version::new((1, 0)),
         title: title.to_string(),
