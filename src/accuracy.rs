@@ -698,10 +698,7 @@ fn opt(x: Option<f64>) -> String {
 /// the row's unit; empty cells mean "not reported" (see the status).
 pub fn convergence_csv(study: &ConvergenceStudy) -> Result<Vec<u8>> {
     let n = study.levels.len();
-    let fail = |e: &dyn std::fmt::Display| Error::run(format!("cannot encode CSV: {e}"));
-    let mut w = csv::WriterBuilder::new()
-        .terminator(csv::Terminator::Any(b'\n'))
-        .from_writer(Vec::new());
+    let mut rows: Vec<Vec<String>> = Vec::new();
     let mut header = vec!["quantity".to_string(), "unit".to_string()];
     header.extend((1..=n).map(|i| format!("level_{i}_value")));
     header.extend(
@@ -714,18 +711,17 @@ pub fn convergence_csv(study: &ConvergenceStudy) -> Result<Vec<u8>> {
         ]
         .map(String::from),
     );
-    w.write_record(&header).map_err(|e| fail(&e))?;
     let blank = || vec![String::new(); 4];
     let mut row = vec!["triangles".to_string(), "1".to_string()];
     row.extend(study.levels.iter().map(|l| l.triangles.to_string()));
     row.extend(blank());
     row.push("level_data".into());
-    w.write_record(&row).map_err(|e| fail(&e))?;
+    rows.push(row);
     let mut row = vec!["h".to_string(), "m".to_string()];
     row.extend(study.levels.iter().map(|l| io::format_f64(l.h)));
     row.extend(blank());
     row.push("level_data".into());
-    w.write_record(&row).map_err(|e| fail(&e))?;
+    rows.push(row);
     for q in &study.quantities {
         let mut row = vec![q.quantity.clone(), q.unit.clone()];
         row.extend(q.values.iter().map(|&v| io::format_f64(v)));
@@ -734,9 +730,9 @@ pub fn convergence_csv(study: &ConvergenceStudy) -> Result<Vec<u8>> {
         row.push(opt(q.gci.gci_fine));
         row.push(opt(q.gci.gci_fine_percent));
         row.push(q.gci.status.as_str().to_string());
-        w.write_record(&row).map_err(|e| fail(&e))?;
+        rows.push(row);
     }
-    w.into_inner().map_err(|e| fail(&e.error()))
+    io::csv_bytes(&header, rows)
 }
 
 /// `convergence.json`: the whole study (levels with their ZZ estimates, quantities with the GCI

@@ -654,18 +654,6 @@ pub fn compare(solved: &Solved, user: &UserGrid, fe_overridden: bool) -> Result<
 // Files
 // ---------------------------------------------------------------------------------------------
 
-fn csv_bytes(header: &[String], rows: &[Vec<String>]) -> Result<Vec<u8>> {
-    let fail = |e: &dyn std::fmt::Display| Error::run(format!("cannot encode CSV: {e}"));
-    let mut w = csv::WriterBuilder::new()
-        .terminator(csv::Terminator::Any(b'\n'))
-        .from_writer(Vec::new());
-    w.write_record(header).map_err(|e| fail(&e))?;
-    for r in rows {
-        w.write_record(r).map_err(|e| fail(&e))?;
-    }
-    w.into_inner().map_err(|e| fail(&e.error()))
-}
-
 fn point_rows(points: &[PointDiff]) -> Vec<Vec<String>> {
     points
         .iter()
@@ -691,9 +679,9 @@ fn opt(v: Option<f64>) -> String {
 
 /// `x_m,y_m,t_grid_c,t_fe_c,diff_k`: every node of the finest grid.
 pub fn gridcheck_csv(check: &GridCheck) -> Result<Vec<u8>> {
-    csv_bytes(
-        &strings(&["x_m", "y_m", "t_grid_c", "t_fe_c", "diff_k"]),
-        &point_rows(&check.finest_points),
+    crate::io::csv_bytes(
+        strings(&["x_m", "y_m", "t_grid_c", "t_fe_c", "diff_k"]),
+        point_rows(&check.finest_points),
     )
 }
 
@@ -746,14 +734,14 @@ pub fn gridcheck_levels_csv(check: &GridCheck) -> Result<Vec<u8>> {
             r
         })
         .collect();
-    csv_bytes(&header, &rows)
+    crate::io::csv_bytes(&header, &rows)
 }
 
 /// `x_m,y_m,t_user_c,t_fe_c,diff_k`: the user's points inside the section, in file order.
 pub fn compare_csv(c: &Comparison) -> Result<Vec<u8>> {
-    csv_bytes(
-        &strings(&["x_m", "y_m", "t_user_c", "t_fe_c", "diff_k"]),
-        &point_rows(&c.points),
+    crate::io::csv_bytes(
+        strings(&["x_m", "y_m", "t_user_c", "t_fe_c", "diff_k"]),
+        point_rows(&c.points),
     )
 }
 

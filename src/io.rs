@@ -318,16 +318,7 @@ fn material_ids(mesh: &Mesh) -> Result<Vec<i32>> {
 
 /// Smallest interior angle of triangle `t`, degrees (0 for a degenerate triangle).
 fn min_angle_deg(mesh: &Mesh, t: usize) -> f64 {
-    let p = mesh.triangles[t].map(|v| mesh.nodes[v]);
-    (0..3)
-        .map(|i| {
-            let (a, b, c) = (p[i], p[(i + 1) % 3], p[(i + 2) % 3]);
-            let (u, w) = ([b[0] - a[0], b[1] - a[1]], [c[0] - a[0], c[1] - a[1]]);
-            let cross = (u[0] * w[1] - u[1] * w[0]).abs();
-            let dot = u[0] * w[0] + u[1] * w[1];
-            cross.atan2(dot).to_degrees()
-        })
-        .fold(f64::INFINITY, f64::min)
+    crate::mesh::min_angle_of(mesh.triangles[t].map(|v| mesh.nodes[v]))
 }
 
 fn unstructured_vtu(mesh: &Mesh, title: &str, data: Attributes) -> Result<Vec<u8>> {
@@ -442,17 +433,21 @@ pub fn mesh_vtu(mesh: &Mesh) -> Result<Vec<u8>> {
 // CSV
 // ---------------------------------------------------------------------------------------------
 
-fn csv_bytes<const N: usize>(
-    header: [&str; N],
-    rows: impl Iterator<Item = [String; N]>,
-) -> Result<Vec<u8>> {
+/// CSV bytes of a header and rows (`\n` line ends): the one CSV encoder of every output.
+pub fn csv_bytes<H, T, R, U>(header: H, rows: impl IntoIterator<Item = R>) -> Result<Vec<u8>>
+where
+    H: IntoIterator<Item = T>,
+    T: AsRef<[u8]>,
+    R: IntoIterator<Item = U>,
+    U: AsRef<[u8]>,
+{
     let fail = |e: &dyn std::fmt::Display| Error::run(format!("cannot encode CSV: {e}"));
     let mut w = csv::WriterBuilder::new()
         .terminator(csv::Terminator::Any(b'\n'))
         .from_writer(Vec::new());
     w.write_record(header).map_err(|e| fail(&e))?;
     for row in rows {
-        w.write_record(&row).map_err(|e| fail(&e))?;
+        w.write_record(row).map_err(|e| fail(&e))?;
     }
     w.into_inner().map_err(|e| fail(&e.error()))
 }

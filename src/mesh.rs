@@ -447,14 +447,17 @@ impl<'a> Mesher<'a> {
             .collect();
         // Refuse a boundary `size` that asks for more triangles than the limit before
         // splitting the pieces: a tiny size would otherwise allocate millions of vertices first.
+        let boundary_estimate: f64 = pslg
+            .pieces
+            .iter()
+            .filter_map(|p| {
+                let s = boundary_size(p.boundary).filter(|_| p.ring.is_some())?;
+                let (pa, pb) = (pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]);
+                Some(4.0 * (pb[0] - pa[0]).hypot(pb[1] - pa[1]) / s)
+            })
+            .sum();
         {
-            let mut estimate = 0.0;
-            for p in &pslg.pieces {
-                if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
-                    let (pa, pb) = (pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]);
-                    estimate += 4.0 * (pb[0] - pa[0]).hypot(pb[1] - pa[1]) / s;
-                }
-            }
+            let estimate = boundary_estimate;
             if estimate > opts.max_triangles as f64 {
                 return Err(Error::input(format!(
                     "mesh: the boundaries' size would give about {estimate:.0} triangles along the boundaries alone, above the limit of {}; raise the boundaries' size or pass --max-triangles",
@@ -553,17 +556,10 @@ impl<'a> Mesher<'a> {
         let classified = classify(&cdt, pslg, &cons)?;
         {
             // Estimate the final size from the zones' areas and limits, and the sized boundaries.
-            let mut estimate = 0.0;
+            let mut estimate = boundary_estimate;
             for f in cdt.inner_faces() {
                 if let Some(z) = classified.face_zone[f.fix().index()] {
                     estimate += estimate_triangles(tri_area(f.positions()), zone_limit[z]);
-                }
-            }
-            for c in &cons {
-                let p = &pslg.pieces[c.piece];
-                if let (Some(_), Some(s)) = (p.ring, boundary_size(p.boundary)) {
-                    let (pa, pb) = (verts[c.a], verts[c.b]);
-                    estimate += 4.0 * ((pb.x - pa.x).powi(2) + (pb.y - pa.y).powi(2)).sqrt() / s;
                 }
             }
             if estimate > opts.max_triangles as f64 {
@@ -793,7 +789,6 @@ fn extract(
     small: &[(usize, f64, f64)],
     to_cdt: &[usize],
 ) -> Result<Mesh> {
-    let _ = section;
     let face_zone =
         |f: FaceHandle<InnerTag, Point2<f64>, (), CdtEdge<()>, ()>| cl.face_zone[f.fix().index()];
     let mut node_of = vec![usize::MAX; cdt.num_vertices()];

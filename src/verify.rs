@@ -662,11 +662,7 @@ pub fn verify_report(suite: &VerifySuite) -> String {
 /// triangles,passed` (reference, computed in `unit`; error and tolerance relative or in `unit`
 /// as `error_measure` says).
 pub fn verify_csv(suite: &VerifySuite) -> Result<Vec<u8>> {
-    let fail = |e: &dyn std::fmt::Display| Error::run(format!("cannot encode CSV: {e}"));
-    let mut w = csv::WriterBuilder::new()
-        .terminator(csv::Terminator::Any(b'\n'))
-        .from_writer(Vec::new());
-    w.write_record([
+    let header = [
         "case",
         "quantity",
         "unit",
@@ -678,10 +674,9 @@ pub fn verify_csv(suite: &VerifySuite) -> Result<Vec<u8>> {
         "error_measure",
         "triangles",
         "passed",
-    ])
-    .map_err(|e| fail(&e))?;
-    for c in &suite.cases {
-        w.write_record([
+    ];
+    let rows = suite.cases.iter().map(|c| {
+        [
             c.case.clone(),
             c.quantity.clone(),
             c.unit.clone(),
@@ -696,10 +691,9 @@ pub fn verify_csv(suite: &VerifySuite) -> Result<Vec<u8>> {
             },
             c.triangles.to_string(),
             c.passed.to_string(),
-        ])
-        .map_err(|e| fail(&e))?;
-    }
-    w.into_inner().map_err(|e| fail(&e.error()))
+        ]
+    });
+    io::csv_bytes(header, rows)
 }
 
 /// `verify.json`: schema, version, overall result and every case.

@@ -111,8 +111,8 @@ fn boundary_edges_map_back_to_their_names() {
 
 #[test]
 fn sloped_edge_vertex_leaves_no_sliver() {
-    // A region corner on a sloped outline edge (1/3 of the way along y = 3 - x ... not exactly
-    // representable) must be snapped onto it: no triangle thinner than the angle limit allows.
+    // A region corner (1, 2) on the sloped outline edge x + y = 3: the split point must land on
+    // the slope exactly as a shared vertex, or a sliver below the angle limit would appear.
     let text = r#"
 [mesh]
 max_area = 0.01
@@ -300,4 +300,53 @@ ambient = 20.0
     assert!(small[0].at == [0.0, 0.0]);
     assert!(m.stats.min_angle_deg < 28.0);
     assert!(m.stats.min_angle_away_from_small_input_angles_deg >= 28.0 - 1e-9);
+}
+
+#[test]
+fn a_size_field_grades_the_mesh_where_it_asks() {
+    struct LeftHalfFine;
+    impl xsheat::mesh::SizeField for LeftHalfFine {
+        fn max_area_at(&self, p: [f64; 2]) -> f64 {
+            if p[0] < 1.0 { 0.001 } else { f64::INFINITY }
+        }
+    }
+    let text = r#"
+[mesh]
+max_area = 0.02
+[materials.a]
+conductivity = 1.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]]
+boundary = "rim"
+[boundaries.rim]
+kind = "fixed"
+temperature = 0.0
+"#;
+    let p = prepare(text);
+    let m = xsheat::mesh::build_with(
+        &p.section,
+        &p.pslg,
+        &MeshOptions::default(),
+        Some(&LeftHalfFine),
+    )
+    .unwrap();
+    let (mut left, mut right) = (0, 0);
+    for t in 0..m.triangles.len() {
+        let c = centroid(&m, t);
+        let a = m.triangle_area(t);
+        assert!(a <= 0.02 * (1.0 + 1e-9));
+        if c[0] < 1.0 {
+            assert!(
+                a <= 0.001 * (1.0 + 1e-9),
+                "triangle {t} at {c:?} has area {a}"
+            );
+            left += 1;
+        } else {
+            right += 1;
+        }
+    }
+    // Same area on both sides, far more triangles where the field asks for them.
+    assert!(left > 5 * right, "left {left}, right {right}");
+    assert!(m.stats.min_angle_deg >= 28.0 - 1e-9);
 }
