@@ -1,27 +1,40 @@
 //! xsheat — steady heat conduction through 2D cross-sections by the finite element method.
 //!
-//! Data flows one way through the pipeline:
-//! [`model`] (validated section) → [`geometry`] (tagged segment set) → [`mesh`] (quality
-//! triangulation) → [`fem`] (assembled system) → [`solve`] (nodal temperatures) → [`post`]
-//! (gradients, fluxes, heat flows, probes, lines) → [`io`] (VTK, CSV, JSON).
-//! [`run`] strings the stages together for the command-line tool and the examples.
+//! Data flows one way through the pipeline; each stage is a module that imports only the
+//! stages before it:
+//!
+//! ```text
+//! model file ─ model ──► Section (validated) ─ geometry ──► Pslg (tagged segments)
+//!            ─ mesh ───► Mesh ─ fem ──► System ─ solve ──► Solution
+//!            ─ post ───► Results (gradients, fluxes, heat flows, probes, lines, ZZ estimate)
+//! run:   the stages strung together for one solve, with the numerical self-checks
+//! study: drivers above run (convergence study, adaptive refinement, verification, grid checks)
+//! output: every file written (VTK, CSV, JSON) ─ report: every line printed on the console
+//! ```
+//!
+//! [`grid`] is the finite-difference (discrete mean-value) model used by the cross-checks;
+//! [`text`] holds number formatting shared by all stages.
 
-pub mod accuracy;
-pub mod crosscheck;
 pub mod error;
 pub mod fem;
 pub mod geometry;
 pub mod grid;
-pub mod io;
 pub mod mesh;
 pub mod model;
+pub mod output;
 pub mod post;
 pub mod report;
 pub mod run;
 pub mod solve;
-pub mod verify;
+pub mod study;
+pub mod text;
 
 pub use error::{Error, Result};
+
+/// The short caution printed with every solve and written into every summary.
+pub const CAUTION: &str = "Results depend on the inputs and the model assumptions (steady state, \
+2D section, linear conduction, the boundary conditions given). They must be reviewed by a \
+qualified engineer under local codes and licensed practice before use.";
 
 /// The tool's version, as written into summary.json.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");

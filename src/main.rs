@@ -4,7 +4,8 @@ use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 use std::process::ExitCode;
 use xsheat::mesh::MeshOptions;
-use xsheat::{Error, crosscheck, io, report, run};
+use xsheat::study::crosscheck;
+use xsheat::{Error, output, report, run};
 
 #[derive(Parser)]
 #[command(
@@ -142,8 +143,8 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         } => {
             let p = run::prepare(&model)?;
             let m = run::mesh(&p, &opts(max_triangles)?)?;
-            let bytes = io::mesh_vtu(&m)?;
-            io::write_file_atomic(&out, &bytes)?;
+            let bytes = output::mesh_vtu(&m)?;
+            output::write_file_atomic(&out, &bytes)?;
             print!("{}", report::mesh_report(&p.section, &m));
             eprint!("{}", report::warnings_report(&p.warnings()));
             println!("wrote {}", out.display());
@@ -165,7 +166,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             }
             let p = run::prepare(&model)?;
             let solved = match target_error {
-                Some(e) => run::solve_adaptive(p, &o, e)?,
+                Some(e) => xsheat::study::adaptive::solve_adaptive(p, &o, e)?,
                 None => run::solve(p, &o)?,
             };
             let text = report::solve_report(&solved);
@@ -185,7 +186,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                 print!("{text}");
                 return Err(e);
             }
-            let files = run::output_files(&solved)?;
+            let files = output::solve_files(&solved)?;
             let written = files.commit(&out)?;
             print!("{text}");
             println!("wrote {} files to {}", written.len(), out.display());
@@ -197,7 +198,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             out,
             max_triangles,
         } => {
-            use xsheat::accuracy;
+            use xsheat::study::converge;
             let o = opts(max_triangles)?;
             if levels < 3 {
                 return Err(Error::input(format!(
@@ -205,19 +206,19 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                 )));
             }
             let p = run::prepare(&model)?;
-            let study = accuracy::convergence_study(&p, levels, &o)?;
-            let written = accuracy::convergence_files(&study)?.commit(&out)?;
-            print!("{}", accuracy::convergence_report(&study));
+            let study = converge::convergence_study(&p, levels, &o)?;
+            let written = output::convergence_files(&study)?.commit(&out)?;
+            print!("{}", report::convergence_report(&study));
             eprint!("{}", report::warnings_report(&study.warnings));
             println!("wrote {} files to {}", written.len(), out.display());
             Ok(())
         }
         Command::Verify { out } => {
-            use xsheat::verify;
+            use xsheat::study::verify;
             let suite = verify::run_suite()?;
-            print!("{}", verify::verify_report(&suite));
+            print!("{}", report::verify_report(&suite));
             if let Some(dir) = out {
-                let written = verify::verify_files(&suite)?.commit(&dir)?;
+                let written = output::verify_files(&suite)?.commit(&dir)?;
                 println!("wrote {} files to {}", written.len(), dir.display());
             }
             if !suite.all_passed() {
@@ -241,8 +242,8 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             let o = opts(max_triangles)?;
             let p = run::prepare(&model)?;
             let check = crosscheck::grid_check(p, &o, fe_max_area, &hs)?;
-            let written = crosscheck::gridcheck_outputs(&check)?.commit(&out)?;
-            print!("{}", crosscheck::gridcheck_report(&check));
+            let written = output::gridcheck_outputs(&check)?.commit(&out)?;
+            print!("{}", report::gridcheck_report(&check));
             eprint!("{}", report::warnings_report(&check.warnings));
             println!("wrote {} files to {}", written.len(), out.display());
             Ok(())
@@ -259,8 +260,8 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             let user = crosscheck::read_user_grid(&grid_file)?;
             let solved = crosscheck::solve_element(p, &o, fe_max_area)?;
             let c = crosscheck::compare(&solved, &user, fe_max_area.is_some())?;
-            let written = crosscheck::compare_outputs(&c)?.commit(&out)?;
-            print!("{}", crosscheck::compare_report(&c));
+            let written = output::compare_outputs(&c)?.commit(&out)?;
+            print!("{}", report::compare_report(&c));
             eprint!("{}", report::warnings_report(&c.warnings));
             println!("wrote {} files to {}", written.len(), out.display());
             Ok(())

@@ -13,7 +13,7 @@
 
 use std::f64::consts::PI;
 use xsheat::mesh::MeshOptions;
-use xsheat::{accuracy, fem, model, post, run, solve};
+use xsheat::{fem, model, post, run, solve};
 
 const K: f64 = 1.5;
 
@@ -83,7 +83,7 @@ temperature = 0.0
     }
     let sol = solve::solve(&system).unwrap();
     let results = post::postprocess(&p.section, &mesh, &system, &sol).unwrap();
-    let est = accuracy::zz_estimate(&p.section, &mesh, &system, &results).unwrap();
+    let est = post::estimate::zz_estimate(&p.section, &mesh, &system, &results).unwrap();
 
     let rule = seven_point_rule();
     let (mut l2, mut en) = (0.0, 0.0);

@@ -54,7 +54,9 @@ fn adaptive_refinement_beats_uniform_refinement_at_a_re_entrant_corner() {
         area /= 4.0;
         assert!(area > 1e-7, "uniform refinement did not reach the target");
     };
-    let adaptive = run::solve_adaptive(prepared(0.05), &MeshOptions::default(), target).unwrap();
+    let adaptive =
+        xsheat::study::adaptive::solve_adaptive(prepared(0.05), &MeshOptions::default(), target)
+            .unwrap();
     let last = adaptive.adaptivity.last().unwrap();
     assert!(last.relative_error <= target);
     assert_eq!(last.triangles, adaptive.mesh.triangles.len());
@@ -85,7 +87,7 @@ fn adaptive_refinement_stops_at_the_triangle_limit_with_a_warning() {
         max_triangles: 400,
         refine: true,
     };
-    let s = run::solve_adaptive(prepared(0.05), &opts, 1e-4).unwrap();
+    let s = xsheat::study::adaptive::solve_adaptive(prepared(0.05), &opts, 1e-4).unwrap();
     assert!(s.mesh.triangles.len() <= 400);
     assert!(
         s.warnings.iter().any(|w| w.contains("--max-triangles")),
@@ -97,7 +99,9 @@ fn adaptive_refinement_stops_at_the_triangle_limit_with_a_warning() {
 #[test]
 fn target_error_must_be_a_fraction() {
     for bad in [0.0, -0.1, 1.5, f64::NAN] {
-        let e = run::solve_adaptive(prepared(0.05), &MeshOptions::default(), bad).unwrap_err();
+        let e =
+            xsheat::study::adaptive::solve_adaptive(prepared(0.05), &MeshOptions::default(), bad)
+                .unwrap_err();
         assert_eq!(e.exit_code(), 2);
     }
 }

@@ -454,7 +454,7 @@ fn grid_vtu_round_trips() {
     use vtkio::model::{Attribute, DataSet, Piece};
     let s = section(STEPPED);
     let (m, sol) = solved(&s, 0.1);
-    let bytes = grid::grid_vtu(&m, &sol).unwrap();
+    let bytes = xsheat::output::grid_vtu(&m, &sol).unwrap();
     let vtk = vtkio::Vtk::parse_xml(&bytes[..]).expect("vtu parses back");
     let DataSet::UnstructuredGrid { pieces, .. } = vtk.data else {
         panic!("not an unstructured grid")

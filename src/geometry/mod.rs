@@ -7,9 +7,16 @@
 //! material, or a region — and, on the section boundary, its boundary name.
 
 use crate::error::{Error, Result};
-use crate::mesh::RingRef;
 use crate::model::{Ring, Section};
+use serde::Serialize;
 use std::collections::{BTreeMap, HashMap};
+
+/// Which ring a boundary edge lies on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum RingRef {
+    Outline,
+    Hole(usize),
+}
 
 /// What lies on one side of a piece: `None` = void, `Some(0)` = the outline's material,
 /// `Some(i + 1)` = `regions[i]`.

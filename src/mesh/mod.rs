@@ -5,12 +5,7 @@
 
 use serde::Serialize;
 
-/// Which ring a boundary edge lies on.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-pub enum RingRef {
-    Outline,
-    Hole(usize),
-}
+pub use crate::geometry::RingRef;
 
 /// An edge of the mesh on the section boundary (outline or hole).
 #[derive(Debug, Clone, Copy, PartialEq)]

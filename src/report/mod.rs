@@ -1,9 +1,10 @@
 //! Text reports printed by the command-line tool: what a model holds (`check`), mesh quality
 //! (`mesh`) and the solve summary table with the engineering caution (`solve`).
 
+use crate::CAUTION;
 use crate::mesh::{self, Mesh};
 use crate::model::{BoundaryKind, Ring, Section};
-use crate::run::{CAUTION, Prepared, Solved};
+use crate::run::{Prepared, Solved};
 use std::fmt::Write;
 
 fn ring_line(r: &Ring) -> String {
@@ -307,3 +308,10 @@ pub fn solve_report(sv: &Solved) -> String {
     let _ = writeln!(o, "CAUTION: {CAUTION}");
     o
 }
+
+mod converge;
+pub use converge::*;
+mod crosscheck;
+pub use crosscheck::*;
+mod verify;
+pub use verify::*;

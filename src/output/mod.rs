@@ -1,0 +1,51 @@
+//! Output stage: turns a mesh and its results into files, and writes files safely.
+//!
+//! This module owns
+//! * [`OutputSet`] and [`write_file_atomic`]: all-or-nothing writing of result files (each file
+//!   goes to a temporary next to its target, is flushed to disk, and only when every temporary
+//!   is complete are they renamed into place);
+//! * the VTK XML unstructured-grid writers [`field_vtu`] (solved field) and [`mesh_vtu`] (mesh
+//!   and its quality);
+//! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`] and [`boundaries_csv`];
+//! * the run summary [`summary_json`].
+//!
+//! Every writer returns bytes; nothing here touches the disk except [`OutputSet::commit`] and
+//! [`write_file_atomic`].
+//!
+//! # Determinism and number formatting
+//!
+//! The same inputs give byte-identical files (only the caller-supplied `run` object of the
+//! summary is expected to vary). No hash-ordered container is iterated.
+//!
+//! * CSV numbers use [`format_f64`]: the shortest decimal string that reads back to the same
+//!   `f64` (Rust's round-trip formatting), written positionally (`{}`) when
+//!   `1e-4 <= |x| < 1e15` and in scientific notation (`{:e}`, e.g. `1.5e-7`) otherwise;
+//!   zero (either sign) is written `0`; non-finite values are written `NaN`, `inf`, `-inf`.
+//! * JSON numbers are written by `serde_json` (shortest round-trip, e.g. `0.1`, `1e-7`);
+//!   a non-finite value becomes `null`.
+//! * VTK arrays are stored exactly as little-endian binary (Float64 / Int32 / UInt64), base64
+//!   encoded inline, uncompressed, so no decimal conversion happens at all.
+//!
+//! Node and triangle numbers in every file are 0-based, matching VTK point and cell ids.
+
+mod csv;
+mod fs;
+mod json;
+#[cfg(test)]
+mod tests;
+mod vtk;
+
+pub use csv::*;
+pub use fs::*;
+pub use json::*;
+pub use vtk::*;
+mod converge;
+mod solve;
+pub use converge::*;
+pub use solve::*;
+mod crosscheck;
+pub use crosscheck::*;
+mod grid_vtk;
+pub use grid_vtk::*;
+mod verify;
+pub use verify::*;

@@ -1,0 +1,528 @@
+//! Unit tests of the parent module.
+
+use super::fs::COMMIT_COUNTER;
+use super::*;
+use crate::CAUTION;
+use crate::error::Error;
+use crate::mesh::Mesh;
+use crate::mesh::{BoundaryEdge, MeshStats, RingRef};
+use crate::model::Section;
+use crate::model::{Boundary, BoundaryKind, Material, MeshSettings, Ring};
+use crate::post::{BoundaryResult, Extreme, LineSample, ProbeResult};
+use crate::post::{LineResult, Results};
+use serde_json::Value;
+use serde_json::json;
+use std::fs;
+use std::path::Path;
+use std::path::PathBuf;
+use std::sync::atomic::Ordering;
+use vtkio::Vtk;
+use vtkio::model::{Attribute, CellType, DataSet, Piece};
+use vtkio::model::{DataArray, IOBuffer};
+
+/// Unit square (0,0)-(2,1) split into two triangles.
+fn tiny_mesh() -> Mesh {
+    let nodes = vec![[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]];
+    let edge = |a, b, t| BoundaryEdge {
+        nodes: [a, b],
+        boundary: Some(0),
+        triangle: t,
+        ring: RingRef::Outline,
+    };
+    Mesh {
+        nodes,
+        triangles: vec![[0, 1, 2], [0, 2, 3]],
+        material: vec![0, 1],
+        boundary_edges: vec![edge(0, 1, 0), edge(1, 2, 0), edge(2, 3, 1), edge(3, 0, 1)],
+        stats: MeshStats {
+            nodes: 4,
+            triangles: 2,
+            boundary_edges: 4,
+            min_angle_deg: 26.56505117707799,
+            min_angle_away_from_small_input_angles_deg: 26.56505117707799,
+            max_area: 1.0,
+            min_area: 1.0,
+            worst_triangle: 0,
+            worst_triangle_centroid: [4.0 / 3.0, 1.0 / 3.0],
+            small_input_angles: vec![],
+            area: 2.0,
+        },
+    }
+}
+
+fn tiny_results() -> Results {
+    let boundary = |name: &str, kind: &str, q: f64| BoundaryResult {
+        name: name.into(),
+        kind: kind.into(),
+        length: 1.0,
+        heat_flow: q,
+        mean_temperature: 10.0,
+        min_temperature: 0.0,
+        max_temperature: 20.0,
+    };
+    Results {
+        temperature: vec![20.0, 0.0, 0.0, 20.0],
+        cell_gradient: vec![[-10.0, 0.0], [-10.0, 0.0]],
+        cell_flux: vec![[10.0, 0.0], [10.0, 0.0]],
+        nodal_gradient: vec![[-10.0, 0.0]; 4],
+        nodal_flux: vec![[10.0, 1e-20]; 4],
+        // Deliberately not alphabetical: output must follow this order.
+        boundaries: vec![
+            boundary("warm", "fixed", 10.0),
+            boundary("cold", "fixed", -10.0),
+            boundary("(unnamed)", "insulated", 0.0),
+        ],
+        heat_source: 0.0,
+        energy_imbalance: 1.0e-15,
+        energy_imbalance_relative: 5.0e-17,
+        t_min: Extreme {
+            value: 0.0,
+            node: 1,
+            at: [2.0, 0.0],
+        },
+        t_max: Extreme {
+            value: 20.0,
+            node: 0,
+            at: [0.0, 0.0],
+        },
+        probes: vec![ProbeResult {
+            name: "mid, centre".into(),
+            at: [1.0, 0.5],
+            x: 1.0,
+            y: 0.5,
+            temperature: 10.0,
+            snapped: false,
+        }],
+        lines: vec![LineResult {
+            name: "across".into(),
+            samples: vec![
+                LineSample {
+                    s: 0.0,
+                    x: 0.0,
+                    y: 0.5,
+                    temperature: 20.0,
+                    qx: 10.0,
+                    qy: 0.0,
+                },
+                LineSample {
+                    s: 2.0,
+                    x: 2.0,
+                    y: 0.5,
+                    temperature: 0.0,
+                    qx: 10.0,
+                    qy: 0.0,
+                },
+            ],
+            skipped: vec![(2, [3.0, 0.5])],
+        }],
+        warnings: vec![],
+    }
+}
+
+fn tiny_section(mesh: &Mesh) -> Section {
+    let ring = Ring {
+        label: "outline".into(),
+        points: mesh.nodes.clone(),
+        edge_boundary: vec![Some(1), None, Some(0), None],
+        written_segment: vec![0, 1, 2, 3],
+        circle: None,
+    };
+    Section {
+        title: "Two triangles".into(),
+        mesh: MeshSettings {
+            max_area: 1.0,
+            max_area_is_default: false,
+            min_angle: 20.0,
+        },
+        materials: vec![
+            Material {
+                id: 0,
+                name: "concrete".into(),
+                conductivity: 1.6,
+                heat_source: 0.0,
+                max_area: None,
+            },
+            Material {
+                id: 1,
+                name: "steel".into(),
+                conductivity: 50.0,
+                heat_source: 0.0,
+                max_area: None,
+            },
+        ],
+        outline_material: 0,
+        outline: ring,
+        regions: vec![],
+        holes: vec![],
+        boundaries: vec![
+            Boundary {
+                name: "cold".into(),
+                kind: BoundaryKind::Fixed { temperature: 0.0 },
+                size: None,
+            },
+            Boundary {
+                name: "warm".into(),
+                kind: BoundaryKind::Fixed { temperature: 20.0 },
+                size: None,
+            },
+        ],
+        probes: vec![],
+        lines: vec![],
+        warnings: vec![],
+    }
+}
+
+fn scratch_dir(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("xsheat-io-{}-{name}", std::process::id()));
+    let _ = fs::remove_dir_all(&d);
+    d
+}
+
+fn dir_listing(d: &Path) -> Vec<String> {
+    let mut v: Vec<String> = fs::read_dir(d)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
+fn first_line(bytes: &[u8]) -> &str {
+    std::str::from_utf8(bytes).unwrap().lines().next().unwrap()
+}
+
+/// Parses VTK bytes and returns (point count, cell types, point arrays, cell arrays).
+fn parse_vtu(bytes: &[u8]) -> (usize, Vec<CellType>, Vec<DataArray>, Vec<DataArray>) {
+    let vtk = Vtk::parse_xml(bytes).expect("vtu parses back");
+    let DataSet::UnstructuredGrid { pieces, .. } = vtk.data else {
+        panic!("not an unstructured grid")
+    };
+    assert_eq!(pieces.len(), 1);
+    let Piece::Inline(piece) = pieces.into_iter().next().unwrap() else {
+        panic!("piece not inline")
+    };
+    let arrays = |a: Vec<Attribute>| {
+        a.into_iter()
+            .map(|x| match x {
+                Attribute::DataArray(d) => d,
+                Attribute::Field { .. } => panic!("unexpected field"),
+            })
+            .collect::<Vec<_>>()
+    };
+    let n = piece.num_points();
+    let types = piece.cells.types.clone();
+    (n, types, arrays(piece.data.point), arrays(piece.data.cell))
+}
+
+fn shape(arrays: &[DataArray]) -> Vec<(String, usize, usize)> {
+    arrays
+        .iter()
+        .map(|a| (a.name.clone(), a.num_comp(), a.len()))
+        .collect()
+}
+
+fn owned(v: &[(&str, usize, usize)]) -> Vec<(String, usize, usize)> {
+    v.iter().map(|&(n, c, l)| (n.to_string(), c, l)).collect()
+}
+
+#[test]
+fn field_vtu_parses_back_with_expected_arrays() {
+    let (mesh, res) = (tiny_mesh(), tiny_results());
+    let bytes = field_vtu(&mesh, &res).unwrap();
+    let (n, types, point, cell) = parse_vtu(&bytes);
+    assert_eq!(n, 4);
+    assert_eq!(types, vec![CellType::Triangle; 2]);
+    assert_eq!(
+        shape(&point),
+        owned(&[
+            ("temperature", 1, 4),
+            ("heat_flux_nodal", 3, 12),
+            ("gradient_nodal", 3, 12)
+        ])
+    );
+    assert_eq!(
+        shape(&cell),
+        owned(&[("heat_flux", 3, 6), ("gradient", 3, 6), ("material", 1, 2)])
+    );
+    assert_eq!(point[0].data, IOBuffer::F64(res.temperature.clone()));
+    assert_eq!(point[1].data, IOBuffer::F64([10.0, 1e-20, 0.0].repeat(4)));
+    assert_eq!(cell[2].data, IOBuffer::I32(vec![0, 1]));
+}
+
+#[test]
+fn mesh_vtu_parses_back_with_quality_arrays() {
+    let mesh = tiny_mesh();
+    let bytes = mesh_vtu(&mesh).unwrap();
+    let (n, types, point, cell) = parse_vtu(&bytes);
+    assert_eq!((n, types.len(), point.len()), (4, 2, 0));
+    assert_eq!(
+        shape(&cell),
+        owned(&[
+            ("material", 1, 2),
+            ("quality_min_angle_deg", 1, 2),
+            ("area_m2", 1, 2)
+        ])
+    );
+    assert_eq!(cell[0].data.scalar_type(), vtkio::model::ScalarType::I32);
+    let IOBuffer::F64(angles) = &cell[1].data else {
+        panic!("angles not f64")
+    };
+    let expect = 0.5f64.atan().to_degrees(); // 26.565° at the 2×1 rectangle's corners
+    assert!(
+        angles.iter().all(|a| (a - expect).abs() < 1e-12),
+        "{angles:?}"
+    );
+    assert_eq!(cell[2].data, IOBuffer::F64(vec![1.0, 1.0]));
+}
+
+#[test]
+fn vtu_rejects_inconsistent_input() {
+    let mut mesh = tiny_mesh();
+    let mut res = tiny_results();
+    res.temperature.pop();
+    assert!(matches!(field_vtu(&mesh, &res), Err(Error::Run(_))));
+    mesh.triangles[1] = [0, 2, 9];
+    assert!(matches!(mesh_vtu(&mesh), Err(Error::Run(_))));
+}
+
+#[test]
+fn csv_headers_and_rows() {
+    let (mesh, res) = (tiny_mesh(), tiny_results());
+    let nodes = nodes_csv(&mesh, &res).unwrap();
+    assert_eq!(first_line(&nodes), "node,x_m,y_m,temperature_c");
+    assert_eq!(
+        String::from_utf8(nodes).unwrap(),
+        "node,x_m,y_m,temperature_c\n0,0,0,20\n1,2,0,0\n2,2,1,0\n3,0,1,20\n"
+    );
+    let probes = probes_csv(&res).unwrap();
+    assert_eq!(
+        String::from_utf8(probes).unwrap(),
+        "name,x_m,y_m,temperature_c\n\"mid, centre\",1,0.5,10\n"
+    );
+    let line = line_csv(&res.lines[0]).unwrap();
+    assert_eq!(
+        first_line(&line),
+        "s_m,x_m,y_m,temperature_c,qx_w_per_m2,qy_w_per_m2"
+    );
+    assert_eq!(line.iter().filter(|&&b| b == b'\n').count(), 3);
+    let b = boundaries_csv(&res).unwrap();
+    assert_eq!(
+        first_line(&b),
+        "name,kind,length_m,heat_flow_w_per_m,mean_temperature_c,min_temperature_c,\
+         max_temperature_c"
+    );
+    let text = String::from_utf8(b).unwrap();
+    let order: Vec<&str> = text
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap())
+        .collect();
+    assert_eq!(order, ["warm", "cold", "(unnamed)"]);
+}
+
+#[test]
+fn float_format_round_trips() {
+    assert_eq!(format_f64(0.1), "0.1");
+    assert_eq!(format_f64(-0.0), "0");
+    assert_eq!(format_f64(20.0), "20");
+    assert_eq!(format_f64(1e-20), "1e-20");
+    assert_eq!(format_f64(-1.5e-7), "-1.5e-7");
+    assert_eq!(format_f64(2e15), "2e15");
+    assert_eq!(format_f64(f64::NAN), "NaN");
+    for x in [
+        0.1,
+        1.0 / 3.0,
+        -273.15,
+        6.02214076e23,
+        5e-324,
+        f64::MAX,
+        1e-4,
+        9.99e14,
+    ] {
+        assert_eq!(format_f64(x).parse::<f64>().unwrap(), x);
+    }
+}
+
+#[test]
+fn summary_has_keys_in_order() {
+    let (mesh, res) = (tiny_mesh(), tiny_results());
+    let section = tiny_section(&mesh);
+    let warnings = vec!["segment 1 of outline has no boundary name".to_string()];
+    let (checks, model, run) = (
+        json!({"energy_balance": {"pass": true}}),
+        json!({"title": "Two triangles"}),
+        json!({"seconds": 0.25}),
+    );
+    let inputs = SummaryInputs {
+        section: &section,
+        mesh: &mesh,
+        results: &res,
+        warnings: &warnings,
+        checks: &checks,
+        model: &model,
+        run: &run,
+        extra: &[("error_estimate", json!({"relative": 0.01}))],
+    };
+    let bytes = summary_json(&inputs).unwrap();
+    assert!(bytes.ends_with(b"}\n"));
+    assert_eq!(bytes, summary_json(&inputs).unwrap());
+    let v: Value = serde_json::from_slice(&bytes).unwrap();
+    for key in [
+        "schema",
+        "version",
+        "title",
+        "caution",
+        "units",
+        "nodes",
+        "triangles",
+        "min_angle_deg",
+        "max_triangle_area_m2",
+        "materials",
+        "temperature",
+        "heat_flow_w_per_m",
+        "boundaries",
+        "heat_source_w_per_m",
+        "energy_imbalance_w_per_m",
+        "energy_imbalance_relative",
+        "probes",
+        "lines",
+        "warnings",
+        "checks",
+        "model",
+        "run",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(v["schema"], json!(1));
+    assert_eq!(v["version"], json!(crate::VERSION));
+    assert_eq!(v["caution"], json!(CAUTION));
+    assert_eq!(v["units"]["film_coefficient"], json!("W/(m²·K)"));
+    assert_eq!(
+        v["units"]["heat_flow"],
+        json!("W/m (per metre of section depth)")
+    );
+    assert_eq!(v["materials"][1]["name"], json!("steel"));
+    assert_eq!(v["temperature"]["max_at"], json!([0.0, 0.0]));
+    assert_eq!(v["boundaries"][0]["condition"]["temperature"], json!(20.0));
+    assert_eq!(v["boundaries"][2]["condition"], Value::Null);
+    assert_eq!(v["lines"][0]["samples"], json!(2));
+    assert_eq!(v["lines"][0]["skipped"][0]["index"], json!(2));
+    assert_eq!(v["probes"][0]["temperature"], json!(10.0));
+    // Result order is kept in the text (a Value object would sort the keys).
+    let text = String::from_utf8(bytes).unwrap();
+    let flows = &text[text.find("\"heat_flow_w_per_m\": {").unwrap()..];
+    let (w, c, u) = (
+        flows.find("\"warm\"").unwrap(),
+        flows.find("\"cold\"").unwrap(),
+        flows.find("\"(unnamed)\"").unwrap(),
+    );
+    assert!(w < c && c < u);
+    assert!(text.find("\"schema\"").unwrap() < text.find("\"run\"").unwrap());
+}
+
+#[test]
+fn writers_are_deterministic() {
+    let (mesh, res) = (tiny_mesh(), tiny_results());
+    assert_eq!(
+        field_vtu(&mesh, &res).unwrap(),
+        field_vtu(&mesh.clone(), &res.clone()).unwrap()
+    );
+    assert_eq!(mesh_vtu(&mesh).unwrap(), mesh_vtu(&mesh.clone()).unwrap());
+    assert_eq!(
+        nodes_csv(&mesh, &res).unwrap(),
+        nodes_csv(&mesh, &res).unwrap()
+    );
+    assert_eq!(
+        boundaries_csv(&res).unwrap(),
+        boundaries_csv(&res.clone()).unwrap()
+    );
+}
+
+#[test]
+fn output_set_writes_all_and_leaves_no_temporaries() {
+    let dir = scratch_dir("ok").join("nested");
+    fs::create_dir_all(&dir).unwrap();
+    fs::write(dir.join("keep.txt"), b"other").unwrap();
+    fs::write(dir.join("a.csv"), b"old").unwrap();
+    let mut set = OutputSet::new();
+    set.add("a.csv", b"new a".to_vec());
+    set.add("b.json", b"{}\n".to_vec());
+    let written = set.commit(&dir).unwrap();
+    assert_eq!(written, vec![dir.join("a.csv"), dir.join("b.json")]);
+    assert_eq!(dir_listing(&dir), ["a.csv", "b.json", "keep.txt"]);
+    assert_eq!(fs::read(dir.join("a.csv")).unwrap(), b"new a");
+    assert_eq!(fs::read(dir.join("keep.txt")).unwrap(), b"other");
+    // Creates a missing directory.
+    let fresh = dir.join("deeper");
+    set.commit(&fresh).unwrap();
+    assert_eq!(dir_listing(&fresh), ["a.csv", "b.json"]);
+    let _ = fs::remove_dir_all(scratch_dir("ok"));
+}
+
+#[test]
+fn output_set_failure_leaves_no_new_file() {
+    let root = scratch_dir("fail");
+    fs::create_dir_all(&root).unwrap();
+    let mut set = OutputSet::new();
+    set.add("a.csv", b"a".to_vec());
+    set.add("b.csv", b"b".to_vec());
+
+    // The output "directory" is an existing regular file.
+    let file = root.join("plain");
+    fs::write(&file, b"x").unwrap();
+    let e = set.commit(&file).unwrap_err();
+    assert!(matches!(e, Error::Run(_)));
+    assert!(e.message().contains("plain"), "{e}");
+    assert_eq!(fs::read(&file).unwrap(), b"x");
+
+    // A directory stands where the second file should go.
+    let dir = root.join("out");
+    fs::create_dir_all(dir.join("b.csv")).unwrap();
+    let e = set.commit(&dir).unwrap_err();
+    assert!(e.message().contains("b.csv"), "{e}");
+    assert_eq!(dir_listing(&dir), ["b.csv"]);
+
+    // A temporary cannot be created for the second file: the first is cleaned up.
+    let dir2 = root.join("out2");
+    fs::create_dir_all(&dir2).unwrap();
+    let serial = COMMIT_COUNTER.load(Ordering::Relaxed);
+    let blockers: Vec<String> = (serial..serial + 64)
+        .map(|s| format!(".b.csv.tmp-{}-{s}", std::process::id()))
+        .collect();
+    for b in &blockers {
+        fs::create_dir(dir2.join(b)).unwrap();
+    }
+    let e = set.commit(&dir2).unwrap_err();
+    assert!(e.message().contains("b.csv"), "{e}");
+    let left: Vec<String> = dir_listing(&dir2)
+        .into_iter()
+        .filter(|n| !blockers.contains(n))
+        .collect();
+    assert!(left.is_empty(), "left behind: {left:?}");
+
+    // Bad names are refused before anything is written.
+    for bad in ["", "..", "sub/x.csv"] {
+        let mut s = OutputSet::new();
+        s.add(bad, vec![]);
+        assert!(s.commit(root.join("never")).is_err());
+    }
+    let mut dup = OutputSet::new();
+    dup.add("x", vec![]);
+    dup.add("x", vec![]);
+    assert!(dup.commit(root.join("never")).is_err());
+    assert!(!root.join("never").exists());
+    let _ = fs::remove_dir_all(&root);
+}
+
+#[test]
+fn write_file_atomic_replaces_single_file() {
+    let root = scratch_dir("single");
+    let path = root.join("mesh.vtu");
+    write_file_atomic(&path, b"one").unwrap();
+    write_file_atomic(&path, b"two").unwrap();
+    assert_eq!(fs::read(&path).unwrap(), b"two");
+    assert_eq!(dir_listing(&root), ["mesh.vtu"]);
+    assert!(write_file_atomic(&root, b"x").is_err());
+    assert!(write_file_atomic(root.join(".."), b"x").is_err());
+    let _ = fs::remove_dir_all(&root);
+}

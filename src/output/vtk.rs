@@ -1,0 +1,187 @@
+//! VTK XML unstructured-grid encoding of meshes and solved fields.
+
+use crate::error::{Error, Result};
+use crate::mesh::Mesh;
+use crate::post::Results;
+use vtkio::model::{
+    Attribute, Attributes, ByteOrder, CellType, Cells, DataSet, Piece, UnstructuredGridPiece,
+    Version, VertexNumbers, Vtk,
+};
+
+// ---------------------------------------------------------------------------------------------
+// Consistency checks (the writers never index out of bounds)
+// ---------------------------------------------------------------------------------------------
+
+pub(crate) fn check_mesh(mesh: &Mesh) -> Result<()> {
+    let n = mesh.nodes.len();
+    if mesh.material.len() != mesh.triangles.len() {
+        return Err(Error::run(format!(
+            "internal: mesh has {} triangles but {} material ids",
+            mesh.triangles.len(),
+            mesh.material.len()
+        )));
+    }
+    for (t, tri) in mesh.triangles.iter().enumerate() {
+        if let Some(&v) = tri.iter().find(|&&v| v >= n) {
+            return Err(Error::run(format!(
+                "internal: triangle {t} refers to node {v}, but the mesh has {n} nodes"
+            )));
+        }
+    }
+    Ok(())
+}
+
+pub(crate) fn check_len(what: &str, got: usize, want: usize, per: &str) -> Result<()> {
+    if got != want {
+        return Err(Error::run(format!(
+            "internal: results hold {got} values of {what}, expected one per {per} ({want})"
+        )));
+    }
+    Ok(())
+}
+
+pub(crate) fn check_results(mesh: &Mesh, results: &Results) -> Result<()> {
+    let (n, t) = (mesh.nodes.len(), mesh.triangles.len());
+    check_len("temperature", results.temperature.len(), n, "node")?;
+    check_len("nodal gradient", results.nodal_gradient.len(), n, "node")?;
+    check_len("nodal heat flux", results.nodal_flux.len(), n, "node")?;
+    check_len(
+        "triangle gradient",
+        results.cell_gradient.len(),
+        t,
+        "triangle",
+    )?;
+    check_len("triangle heat flux", results.cell_flux.len(), t, "triangle")?;
+    Ok(())
+}
+
+// ---------------------------------------------------------------------------------------------
+// VTK
+// ---------------------------------------------------------------------------------------------
+
+fn vec3(v: &[[f64; 2]]) -> Vec<f64> {
+    v.iter().flat_map(|a| [a[0], a[1], 0.0]).collect()
+}
+
+fn material_ids(mesh: &Mesh) -> Result<Vec<i32>> {
+    mesh.material
+        .iter()
+        .map(|&m| {
+            i32::try_from(m)
+                .map_err(|_| Error::run(format!("internal: material id {m} does not fit Int32")))
+        })
+        .collect()
+}
+
+/// Smallest interior angle of triangle `t`, degrees (0 for a degenerate triangle).
+fn min_angle_deg(mesh: &Mesh, t: usize) -> f64 {
+    crate::mesh::min_angle_of(mesh.triangles[t].map(|v| mesh.nodes[v]))
+}
+
+fn unstructured_vtu(mesh: &Mesh, title: &str, data: Attributes) -> Result<Vec<u8>> {
+    let connectivity: Vec<u64> = mesh
+        .triangles
+        .iter()
+        .flat_map(|t| t.map(|v| v as u64))
+        .collect();
+    let offsets: Vec<u64> = (1..=mesh.triangles.len() as u64).map(|i| 3 * i).collect();
+    let piece = UnstructuredGridPiece {
+        points: vec3(&mesh.nodes).into(),
+        cells: Cells {
+            cell_verts: VertexNumbers::XML {
+                connectivity,
+                offsets,
+            },
+            types: vec![CellType::Triangle; mesh.triangles.len()],
+        },
+        data,
+    };
+    encode_vtu(title, piece)
+}
+
+/// One unstructured-grid piece as VTK XML (`.vtu`) bytes: little-endian, base64 binary arrays,
+/// a trailing newline.
+pub fn encode_vtu(title: &str, piece: UnstructuredGridPiece) -> Result<Vec<u8>> {
+    let vtk = Vtk {
+        version: Version::new((1, 0)),
+        title: title.to_string(),
+        byte_order: ByteOrder::LittleEndian,
+        data: DataSet::UnstructuredGrid {
+            meta: None,
+            pieces: vec![Piece::Inline(Box::new(piece))],
+        },
+        file_path: None,
+    };
+    let mut out = Vec::new();
+    vtk.write_xml(&mut out)
+        .map_err(|e| Error::run(format!("cannot encode VTK XML ({title}): {e}")))?;
+    if !out.ends_with(b"\n") {
+        out.push(b'\n');
+    }
+    Ok(out)
+}
+
+/// The solved field as a VTK XML unstructured grid (`.vtu`).
+///
+/// Points (x, y, 0) m; triangle cells. Point data: `temperature` (°C), `heat_flux_nodal`
+/// (W/m²) and `gradient_nodal` (K/m), vectors with z = 0. Cell data: `heat_flux` (W/m²),
+/// `gradient` (K/m), vectors with z = 0, and `material` (Int32 id).
+pub fn field_vtu(mesh: &Mesh, results: &Results) -> Result<Vec<u8>> {
+    field_vtu_with(mesh, results, &[])
+}
+
+/// [`field_vtu`] with further scalar cell arrays (name, one value per triangle), e.g. the
+/// `error_indicator` of the error estimate.
+pub fn field_vtu_with(
+    mesh: &Mesh,
+    results: &Results,
+    extra_cells: &[(&str, &[f64])],
+) -> Result<Vec<u8>> {
+    check_mesh(mesh)?;
+    check_results(mesh, results)?;
+    for (name, values) in extra_cells {
+        if values.len() != mesh.triangles.len() {
+            return Err(Error::run(format!(
+                "internal: cell array {name} has {} values for {} triangles",
+                values.len(),
+                mesh.triangles.len()
+            )));
+        }
+    }
+    let mut data = Attributes {
+        point: vec![
+            Attribute::scalars("temperature", 1).with_data(results.temperature.clone()),
+            Attribute::vectors("heat_flux_nodal").with_data(vec3(&results.nodal_flux)),
+            Attribute::vectors("gradient_nodal").with_data(vec3(&results.nodal_gradient)),
+        ],
+        cell: vec![
+            Attribute::vectors("heat_flux").with_data(vec3(&results.cell_flux)),
+            Attribute::vectors("gradient").with_data(vec3(&results.cell_gradient)),
+            Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
+        ],
+    };
+    for (name, values) in extra_cells {
+        data.cell
+            .push(Attribute::scalars(*name, 1).with_data(values.to_vec()));
+    }
+    unstructured_vtu(mesh, "field", data)
+}
+
+/// The mesh as a VTK XML unstructured grid (`.vtu`), with cell data `material` (Int32 id),
+/// `quality_min_angle_deg` (smallest angle of each triangle, degrees) and `area_m2` (signed
+/// area, m²; positive for the counter-clockwise triangles the mesher makes).
+pub fn mesh_vtu(mesh: &Mesh) -> Result<Vec<u8>> {
+    check_mesh(mesh)?;
+    let t = mesh.triangles.len();
+    let angles: Vec<f64> = (0..t).map(|i| min_angle_deg(mesh, i)).collect();
+    let areas: Vec<f64> = (0..t).map(|i| mesh.triangle_area(i)).collect();
+    let data = Attributes {
+        point: vec![],
+        cell: vec![
+            Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
+            Attribute::scalars("quality_min_angle_deg", 1).with_data(angles),
+            Attribute::scalars("area_m2", 1).with_data(areas),
+        ],
+    };
+    unstructured_vtu(mesh, "mesh", data)
+}

@@ -1,0 +1,158 @@
+//! The Zienkiewicz–Zhu (ZZ) a posteriori error estimate of a solved field.
+//!
+//! The gradient is recovered per node by area-weighted averaging of the constant triangle
+//! gradients, separately for each material meeting at the node ([`recover_gradient`]); the
+//! indicator of triangle T is η_T² = ∫_T (G* − ∇T_h)·k·(G* − ∇T_h) dA with G* the linear
+//! interpolant of the recovered corner values, integrated exactly by the 3-point edge-midpoint
+//! rule (the integrand is quadratic). Reference: O. C. Zienkiewicz and J. Z. Zhu, "A simple
+//! error estimator and adaptive procedure for practical engineering analysis", Int. J. Numer.
+//! Methods Eng. 24 (1987) 337–357.
+//!
+//! Norms. The energy norm used throughout is the conduction energy (semi)norm
+//! ‖v‖_E = (Σ_T ∫_T ∇v·k·∇v dA)^½, in (W·K/m)^½ per metre of section depth; the film term of
+//! convection edges is not included (it would make the norm depend on the temperature level).
+//! The relative estimate is η / (‖T_h‖_E² + η²)^½, i.e. the estimated error relative to the
+//! estimated energy norm of the exact solution (‖T‖_E² ≈ ‖T_h‖_E² + ‖e‖_E² holds exactly for
+//! the Galerkin solution of a problem with fixed temperatures only; it is the definition used by
+//! Zienkiewicz and Zhu).
+
+use crate::error::{Error, Result};
+use crate::fem::{System, TriangleGeometry};
+use crate::mesh::Mesh;
+use crate::model::Section;
+use crate::post::Results;
+use serde::Serialize;
+
+/// The ZZ error estimate of one solved field.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ErrorEstimate {
+    /// η_T per triangle, (W·K/m)^½, in mesh triangle order (for the `error_indicator` cell
+    /// array). Not serialised: it has one value per triangle.
+    #[serde(skip)]
+    pub indicator: Vec<f64>,
+    /// Estimated error in the energy norm, η = (Σ η_T²)^½, (W·K/m)^½.
+    pub energy_norm: f64,
+    /// Energy norm of the finite element solution, ‖T_h‖_E, (W·K/m)^½.
+    pub solution_energy_norm: f64,
+    /// η / (‖T_h‖_E² + η²)^½ (0 when both vanish).
+    pub relative: f64,
+}
+
+/// Recovered gradient at the three corners of every triangle, K/m.
+///
+/// At each node the constant gradients of the adjacent triangles are averaged with their areas
+/// as weights, separately for each material: a triangle sees the average over the triangles of
+/// its own material around the node. Within one material the conductivity is uniform, so this is
+/// the same as recovering the heat flux; across a material interface the normal gradient jumps
+/// and is not smeared.
+pub fn recover_gradient(mesh: &Mesh, cell_gradient: &[[f64; 2]]) -> Result<Vec<[[f64; 2]; 3]>> {
+    let nt = mesh.triangles.len();
+    if cell_gradient.len() != nt || mesh.material.len() != nt {
+        return Err(Error::run(format!(
+            "internal error: gradient recovery got {} gradients and {} material ids for {nt} triangles",
+            cell_gradient.len(),
+            mesh.material.len()
+        )));
+    }
+    let n = mesh.nodes.len();
+    // Per node: (material, Σ A·g, Σ A), in order of first appearance (deterministic).
+    let mut acc: Vec<Vec<(usize, [f64; 2], f64)>> = vec![Vec::new(); n];
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let a = mesh.triangle_area(t).abs();
+        let g = cell_gradient[t];
+        let m = mesh.material[t];
+        for &v in ids {
+            if v >= n {
+                return Err(Error::run(format!(
+                    "internal error: triangle {t} refers to node {v} of {n}"
+                )));
+            }
+            match acc[v].iter_mut().find(|e| e.0 == m) {
+                Some(e) => {
+                    e.1[0] += a * g[0];
+                    e.1[1] += a * g[1];
+                    e.2 += a;
+                }
+                None => acc[v].push((m, [a * g[0], a * g[1]], a)),
+            }
+        }
+    }
+    let mut out = Vec::with_capacity(nt);
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let m = mesh.material[t];
+        let mut corners = [[0.0; 2]; 3];
+        for (c, &v) in corners.iter_mut().zip(ids) {
+            // The triangle itself contributed, so the entry exists and its weight is positive
+            // unless the triangle is degenerate; then fall back to the triangle's own value.
+            *c = match acc[v].iter().find(|e| e.0 == m) {
+                Some(e) if e.2 > 0.0 => [e.1[0] / e.2, e.1[1] / e.2],
+                _ => cell_gradient[t],
+            };
+        }
+        out.push(corners);
+    }
+    Ok(out)
+}
+
+/// Zienkiewicz–Zhu estimate of the energy-norm error of a solved field (see the module doc for
+/// the recovery, the norm and the relative measure).
+pub fn zz_estimate(
+    section: &Section,
+    mesh: &Mesh,
+    system: &System,
+    results: &Results,
+) -> Result<ErrorEstimate> {
+    let nt = mesh.triangles.len();
+    if results.cell_gradient.len() != nt {
+        return Err(Error::run(format!(
+            "internal error: error estimate got {} triangle gradients for {nt} triangles",
+            results.cell_gradient.len()
+        )));
+    }
+    if system.conductivity.len() < section.materials.len() {
+        return Err(Error::run(
+            "internal error: error estimate: system and section disagree on materials",
+        ));
+    }
+    let recovered = recover_gradient(mesh, &results.cell_gradient)?;
+    let mut indicator = Vec::with_capacity(nt);
+    let mut eta2 = 0.0;
+    let mut norm2 = 0.0;
+    for (t, c) in recovered.iter().enumerate() {
+        let k = system.conductivity.get(mesh.material[t]).ok_or_else(|| {
+            Error::run(format!(
+                "internal error: triangle {t} has material id {} without a conductivity",
+                mesh.material[t]
+            ))
+        })?;
+        let area = TriangleGeometry::of(mesh, t).area.abs();
+        let g = results.cell_gradient[t];
+        // Edge-midpoint rule: exact for the quadratic integrand, weights A/3.
+        let mut s = 0.0;
+        for i in 0..3 {
+            let j = (i + 1) % 3;
+            let e = [
+                0.5 * (c[i][0] + c[j][0]) - g[0],
+                0.5 * (c[i][1] + c[j][1]) - g[1],
+            ];
+            let ke = k.apply(e);
+            s += e[0] * ke[0] + e[1] * ke[1];
+        }
+        let et2 = (s * area / 3.0).max(0.0);
+        let kg = k.apply(g);
+        norm2 += area * (g[0] * kg[0] + g[1] * kg[1]);
+        eta2 += et2;
+        indicator.push(et2.sqrt());
+    }
+    let denom = (norm2 + eta2).sqrt();
+    Ok(ErrorEstimate {
+        indicator,
+        energy_norm: eta2.sqrt(),
+        solution_energy_norm: norm2.max(0.0).sqrt(),
+        relative: if denom > 0.0 {
+            eta2.sqrt() / denom
+        } else {
+            0.0
+        },
+    })
+}

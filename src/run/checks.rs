@@ -1,0 +1,106 @@
+//! Numerical self-checks of a solved model: energy balance, solver residual, maximum principle.
+
+use super::*;
+
+/// Energy balance, solver residual and (without sources and flux edges) the maximum principle.
+pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Results) -> Vec<Check> {
+    let mut checks = vec![
+        Check {
+            name: "energy_balance".into(),
+            value: r.energy_imbalance_relative,
+            tolerance: BALANCE_TOLERANCE,
+            passed: r.energy_imbalance_relative <= BALANCE_TOLERANCE,
+            severity: "error".into(),
+            detail: format!(
+                "sum of boundary heat flows + heat source = {:.3e} W/m, relative {:.3e}",
+                r.energy_imbalance, r.energy_imbalance_relative
+            ),
+        },
+        Check {
+            name: "solver_residual".into(),
+            value: solution.residual_relative,
+            tolerance: RESIDUAL_TOLERANCE,
+            passed: solution.residual_relative <= RESIDUAL_TOLERANCE,
+            severity: "error".into(),
+            detail: format!(
+                "relative residual of the reduced system {:.3e}",
+                solution.residual_relative
+            ),
+        },
+    ];
+    let has_source = section.materials.iter().any(|m| m.heat_source != 0.0);
+    let used: Vec<usize> = {
+        let mut u: Vec<usize> = mesh
+            .boundary_edges
+            .iter()
+            .filter_map(|e| e.boundary)
+            .collect();
+        u.sort_unstable();
+        u.dedup();
+        u
+    };
+    let has_flux = used
+        .iter()
+        .any(|&b| matches!(section.boundaries[b].kind, BoundaryKind::Flux { flux } if flux != 0.0));
+    if !has_source && !has_flux {
+        let mut lo = f64::INFINITY;
+        let mut hi = f64::NEG_INFINITY;
+        for &b in &used {
+            match section.boundaries[b].kind {
+                BoundaryKind::Fixed { temperature } => {
+                    lo = lo.min(temperature);
+                    hi = hi.max(temperature);
+                }
+                BoundaryKind::Convection { ambient, .. } => {
+                    lo = lo.min(ambient);
+                    hi = hi.max(ambient);
+                }
+                _ => {}
+            }
+        }
+        let range = (hi - lo).max(1e-300);
+        let tol = MAX_PRINCIPLE_TOLERANCE * range.max(1.0);
+        let below = lo - r.t_min.value;
+        let above = r.t_max.value - hi;
+        let excursion = below.max(above).max(0.0);
+        let (which, at) = if below >= above {
+            ("minimum", r.t_min.at)
+        } else {
+            ("maximum", r.t_max.at)
+        };
+        checks.push(Check {
+            name: "maximum_principle".into(),
+            value: excursion,
+            tolerance: tol,
+            passed: excursion <= tol,
+            severity: "warning".into(),
+            detail: if excursion > 0.0 {
+                format!(
+                    "temperatures must lie within the fixed and ambient range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside it at ({:.6}, {:.6})",
+                    at[0], at[1]
+                )
+            } else {
+                format!("all temperatures lie within the fixed and ambient range [{lo}, {hi}] °C")
+            },
+        });
+    }
+    checks
+}
+
+/// Error for a failed self-check (exit code 1).
+pub fn failed_checks_error(solved: &Solved) -> Option<Error> {
+    let failed: Vec<String> = solved
+        .checks
+        .iter()
+        .filter(|c| !c.passed && c.severity == "error")
+        .map(|c| format!("{}: {}", c.name, c.detail))
+        .collect();
+    if failed.is_empty() {
+        None
+    } else {
+        Some(Error::run(format!(
+            "self-check failed, no results written: {}",
+            failed.join("; ")
+        )))
+    }
+}
