@@ -15,8 +15,12 @@
 //! [`grid`] is the finite-difference (discrete mean-value) model used by the cross-checks;
 //! [`text`] holds number formatting shared by all stages.
 
+#![warn(missing_docs)]
+#![warn(clippy::too_many_lines)]
+
 pub mod error;
 pub mod fem;
+pub mod geom;
 pub mod geometry;
 pub mod grid;
 pub mod mesh;

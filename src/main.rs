@@ -1,4 +1,5 @@
 //! Command-line shell over the xsheat library: each command is a few library calls.
+#![warn(clippy::too_many_lines)]
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
