@@ -73,7 +73,8 @@ impl Section {
     /// One ring as written: a circle with its segment count and one boundary name, or the
     /// points with one name per segment (none when every segment is unnamed).
     fn ring_file(&self, ring: &Ring, material: Option<usize>) -> RingFile {
-        let name = |b: &Option<usize>| b.map_or(String::new(), |id| self.boundaries[id].name.clone());
+        let name =
+            |b: &Option<usize>| b.map_or(String::new(), |id| self.boundaries[id].name.clone());
         let named = ring.edge_boundary.iter().any(Option::is_some);
         let mut file = RingFile {
             material: material.map(|m| self.materials[m].name.clone()),
