@@ -2,6 +2,56 @@
 
 use super::*;
 
+/// What a failed check means.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    /// A failed check fails the run (serialised as "error").
+    Error,
+    /// A failed check is reported only (serialised as "warning").
+    Warning,
+}
+
+/// Outcome of a check: passed, or failed with its severity's consequence.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum CheckStatus {
+    /// Within tolerance.
+    Passed,
+    /// Outside tolerance, severity warning: reported only.
+    Warning,
+    /// Outside tolerance, severity error: the run fails.
+    Failed,
+}
+
+/// One numerical self-check.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Check {
+    /// `energy_balance`, `solver_residual`, `maximum_principle`.
+    pub name: String,
+    /// The checked quantity.
+    pub value: f64,
+    /// Largest accepted value.
+    pub tolerance: f64,
+    /// `value <= tolerance`.
+    pub passed: bool,
+    /// What a failure means.
+    pub severity: Severity,
+    /// One line for the report.
+    pub detail: String,
+}
+
+impl Check {
+    /// Passed, warning (failed, severity warning) or failed (failed, severity error).
+    pub fn status(&self) -> CheckStatus {
+        match (self.passed, self.severity) {
+            (true, _) => CheckStatus::Passed,
+            (false, Severity::Warning) => CheckStatus::Warning,
+            (false, Severity::Error) => CheckStatus::Failed,
+        }
+    }
+}
+
 /// Energy balance, solver residual and (without sources and flux edges) the maximum principle.
 pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Results) -> Vec<Check> {
     let mut checks = vec![
@@ -10,7 +60,7 @@ pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Resu
             value: r.energy_imbalance_relative,
             tolerance: BALANCE_TOLERANCE,
             passed: r.energy_imbalance_relative <= BALANCE_TOLERANCE,
-            severity: "error".into(),
+            severity: Severity::Error,
             detail: format!(
                 "sum of boundary heat flows + heat source = {:.3e} W/m, relative {:.3e}",
                 r.energy_imbalance, r.energy_imbalance_relative
@@ -21,7 +71,7 @@ pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Resu
             value: solution.residual_relative,
             tolerance: RESIDUAL_TOLERANCE,
             passed: solution.residual_relative <= RESIDUAL_TOLERANCE,
-            severity: "error".into(),
+            severity: Severity::Error,
             detail: format!(
                 "relative residual of the reduced system {:.3e}",
                 solution.residual_relative
@@ -73,7 +123,7 @@ pub fn self_checks(section: &Section, mesh: &Mesh, solution: &Solution, r: &Resu
             value: excursion,
             tolerance: tol,
             passed: excursion <= tol,
-            severity: "warning".into(),
+            severity: Severity::Warning,
             detail: if excursion > 0.0 {
                 format!(
                     "temperatures must lie within the fixed and ambient range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside it at ({:.6}, {:.6})",
@@ -92,7 +142,7 @@ pub fn failed_checks_error(solved: &Solved) -> Option<Error> {
     let failed: Vec<String> = solved
         .checks
         .iter()
-        .filter(|c| !c.passed && c.severity == "error")
+        .filter(|c| c.status() == CheckStatus::Failed)
         .map(|c| format!("{}: {}", c.name, c.detail))
         .collect();
     if failed.is_empty() {

@@ -66,18 +66,6 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
     })
 }
 
-/// One numerical self-check.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Check {
-    pub name: String,
-    pub value: f64,
-    pub tolerance: f64,
-    pub passed: bool,
-    /// "error": a failed check fails the run; "warning": reported only.
-    pub severity: String,
-    pub detail: String,
-}
-
 /// Wall-clock time per stage, seconds.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Timings {
@@ -108,11 +96,11 @@ impl Solved {
     pub fn section(&self) -> &Section {
         &self.prepared.section
     }
-    /// True when every check of severity "error" passed.
+    /// True when no check failed (checks of severity warning only warn).
     pub fn checks_passed(&self) -> bool {
         self.checks
             .iter()
-            .all(|c| c.passed || c.severity != "error")
+            .all(|c| c.status() != CheckStatus::Failed)
     }
 }
 
@@ -157,7 +145,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     }
     let checks = self_checks(&prepared.section, &mesh, &solution, &results);
     for c in &checks {
-        if !c.passed && c.severity == "warning" {
+        if c.status() == CheckStatus::Warning {
             warnings.push(format!("self-check {}: {}", c.name, c.detail));
         }
     }
