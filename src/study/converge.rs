@@ -22,10 +22,13 @@ pub struct StudyLevel {
     pub level: usize,
     /// m²
     pub max_area: f64,
+    /// Nodes of the level's mesh.
     pub nodes: usize,
+    /// Triangles of the level's mesh.
     pub triangles: usize,
     /// Representative size (A/N)^½, m.
     pub h: f64,
+    /// Smallest angle of the level's mesh, degrees.
     pub min_angle_deg: f64,
     /// ZZ estimate of this level.
     pub error_estimate: ErrorEstimate,
@@ -36,9 +39,11 @@ pub struct StudyLevel {
 pub struct StudyQuantity {
     /// `probe:NAME`, `heat_flow:BOUNDARY`, `t_min`, `t_max`.
     pub quantity: String,
+    /// `degC` or `W/m`.
     pub unit: String,
     /// Per level, coarsest first.
     pub values: Vec<f64>,
+    /// Observed order, extrapolation and GCI from the finest three levels.
     pub gci: Gci,
 }
 
@@ -47,7 +52,9 @@ pub struct StudyQuantity {
 pub struct StudyCircle {
     /// `outline`, `regions[i]`, `holes[i]`.
     pub ring: String,
+    /// Radius, m.
     pub radius: f64,
+    /// Segment count at every level.
     pub segments: usize,
     /// r(1 − cos(π/N)), m: the polygon's largest distance from the circle.
     pub sagitta: f64,
@@ -59,14 +66,21 @@ pub struct StudyCircle {
 /// A mesh convergence study of one model.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ConvergenceStudy {
+    /// The model's title.
     pub title: String,
+    /// The meshes, coarsest first.
     pub levels: Vec<StudyLevel>,
+    /// Every quantity over the levels.
     pub quantities: Vec<StudyQuantity>,
+    /// Circles and their fixed discretisation.
     pub circles: Vec<StudyCircle>,
+    /// How the study was done and how to read it.
     pub notes: Vec<String>,
+    /// Warnings of every level (prefixed `level N:`), each once.
     pub warnings: Vec<String>,
 }
 
+/// Fix a circle ring's segment count at the finest level's value: (radius, segments, given).
 fn fixed_circle_segments(
     ring: &mut model::RingFile,
     boundaries: &std::collections::BTreeMap<String, model::BoundaryFile>,
