@@ -13,9 +13,11 @@ pub enum Error {
 }
 
 impl Error {
+    /// An [`Error::Input`] with this message.
     pub fn input(msg: impl Into<String>) -> Self {
         Error::Input(msg.into())
     }
+    /// An [`Error::Run`] with this message.
     pub fn run(msg: impl Into<String>) -> Self {
         Error::Run(msg.into())
     }
@@ -26,6 +28,7 @@ impl Error {
             Error::Run(_) => 1,
         }
     }
+    /// The message, naming the offending item.
     pub fn message(&self) -> &str {
         match self {
             Error::Input(m) | Error::Run(m) => m,
@@ -41,4 +44,5 @@ impl fmt::Display for Error {
 
 impl std::error::Error for Error {}
 
+/// Result of every fallible library call.
 pub type Result<T> = std::result::Result<T, Error>;

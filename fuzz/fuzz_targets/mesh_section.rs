@@ -229,9 +229,8 @@ fuzz_target!(|data: &[u8]| {
     let Ok(prepared) = xsheat::run::prepare_model(m) else {
         return;
     };
-    let opts = MeshOptions {
-        max_triangles: 20_000,
-        refine: true,
+    let Ok(opts) = MeshOptions::with_max_triangles(20_000) else {
+        return;
     };
     if xsheat::run::mesh(&prepared, &opts).is_ok() {
         let _ = xsheat::run::solve(prepared, &opts);

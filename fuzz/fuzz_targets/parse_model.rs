@@ -1,5 +1,5 @@
-//! Arbitrary bytes as a model file: parse → validate → geometry. Errors are fine; a panic, an
-//! abort or a hang is a bug.
+//! Arbitrary bytes as a model file: parse → validate → echo → geometry. Errors are fine; a
+//! panic, an abort or a hang is a bug.
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
@@ -12,5 +12,7 @@ fuzz_target!(|data: &[u8]| {
     let Ok(section) = xsheat::model::validate(&file) else {
         return;
     };
+    // The echoed model serialises for every valid section.
+    assert!(!section.resolved_json().is_null());
     let _ = xsheat::geometry::build(&section);
 });

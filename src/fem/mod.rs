@@ -526,7 +526,7 @@ pub fn assemble(section: &Section, mesh: &Mesh) -> Result<System> {
 #[cfg(test)]
 pub(crate) mod testutil {
     use crate::mesh::{BoundaryEdge, Mesh, MeshStats, RingRef};
-    use crate::model::{Boundary, BoundaryKind, Material, MeshSettings, Ring, Section};
+    use crate::model::{self, BoundaryKind, Section};
 
     /// Structured triangulation of `[0, w] × [0, h]` with `nx × ny` cells, each split along
     /// its rising diagonal. Boundary edges are tagged `tags = [bottom, right, top, left]`;
@@ -620,46 +620,34 @@ pub(crate) mod testutil {
         boundaries: &[(&str, BoundaryKind)],
         tags: [Option<usize>; 4],
     ) -> Section {
-        Section {
-            title: "test".into(),
-            mesh: MeshSettings {
-                max_area: w * h / 4000.0,
-                max_area_is_default: true,
-                min_angle: 28.0,
-            },
-            materials: materials
-                .iter()
-                .enumerate()
-                .map(|(id, &(name, conductivity, heat_source))| Material {
-                    id,
-                    name: name.into(),
-                    conductivity,
-                    heat_source,
-                    max_area: None,
-                })
-                .collect(),
-            outline_material: 0,
-            outline: Ring {
-                label: "outline".into(),
-                points: vec![[0.0, 0.0], [w, 0.0], [w, h], [0.0, h]],
-                edge_boundary: tags.to_vec(),
-                written_segment: vec![0, 1, 2, 3],
-                circle: None,
-            },
-            regions: Vec::new(),
-            holes: Vec::new(),
-            boundaries: boundaries
-                .iter()
-                .map(|&(name, kind)| Boundary {
-                    name: name.into(),
-                    kind,
-                    size: None,
-                })
-                .collect(),
-            probes: Vec::new(),
-            lines: Vec::new(),
-            warnings: Vec::new(),
+        let mut text = String::new();
+        for (name, k, q) in materials {
+            text += &format!("[materials.{name}]\nconductivity = {k:?}\nheat_source = {q:?}\n");
         }
+        let edge = |t: Option<usize>| format!("\"{}\"", t.map_or("", |id| boundaries[id].0));
+        let edges: Vec<String> = tags.into_iter().map(edge).collect();
+        text += &format!(
+            "[outline]\nmaterial = \"{}\"\npoints = [[0.0, 0.0], [{w:?}, 0.0], [{w:?}, {h:?}], [0.0, {h:?}]]\nedges = [{}]\n",
+            materials[0].0,
+            edges.join(", ")
+        );
+        for (name, kind) in boundaries {
+            text += &format!("[boundaries.{name}]\nkind = \"{}\"\n", kind.name());
+            match kind {
+                BoundaryKind::Fixed { temperature } => {
+                    text += &format!("temperature = {temperature:?}\n")
+                }
+                BoundaryKind::Insulated => {}
+                BoundaryKind::Flux { flux } => text += &format!("flux = {flux:?}\n"),
+                BoundaryKind::Convection { h, ambient } => {
+                    text += &format!("h = {h:?}\nambient = {ambient:?}\n")
+                }
+            }
+        }
+        let section = model::validate(&model::parse(&text).expect("test model parses"))
+            .expect("test model is valid");
+        assert_eq!(section.outline.edge_boundary, tags, "sides keep their tags");
+        section
     }
 }
 

@@ -115,6 +115,21 @@ impl Default for MeshOptions {
     }
 }
 
+impl MeshOptions {
+    /// Refining options with a triangle limit (`--max-triangles`); the limit must be at least 1.
+    pub fn with_max_triangles(max_triangles: usize) -> crate::error::Result<MeshOptions> {
+        if max_triangles == 0 {
+            return Err(crate::error::Error::input(
+                "--max-triangles = 0: give at least 1 (the largest mesh accepted, in triangles)",
+            ));
+        }
+        Ok(MeshOptions {
+            max_triangles,
+            refine: true,
+        })
+    }
+}
+
 fn ring_area(points: &[[f64; 2]]) -> f64 {
     let n = points.len();
     (0..n)

@@ -7,7 +7,6 @@ use crate::error::Error;
 use crate::mesh::Mesh;
 use crate::mesh::{BoundaryEdge, MeshStats, RingRef};
 use crate::model::Section;
-use crate::model::{Boundary, BoundaryKind, Material, MeshSettings, Ring};
 use crate::post::{BoundaryResult, Extreme, LineSample, ProbeResult};
 use crate::post::{LineResult, Results};
 use serde_json::Value;
@@ -120,56 +119,34 @@ fn tiny_results() -> Results {
 }
 
 fn tiny_section(mesh: &Mesh) -> Section {
-    let ring = Ring {
-        label: "outline".into(),
-        points: mesh.nodes.clone(),
-        edge_boundary: vec![Some(1), None, Some(0), None],
-        written_segment: vec![0, 1, 2, 3],
-        circle: None,
-    };
-    Section {
-        title: "Two triangles".into(),
-        mesh: MeshSettings {
-            max_area: 1.0,
-            max_area_is_default: false,
-            min_angle: 20.0,
-        },
-        materials: vec![
-            Material {
-                id: 0,
-                name: "concrete".into(),
-                conductivity: 1.6,
-                heat_source: 0.0,
-                max_area: None,
-            },
-            Material {
-                id: 1,
-                name: "steel".into(),
-                conductivity: 50.0,
-                heat_source: 0.0,
-                max_area: None,
-            },
-        ],
-        outline_material: 0,
-        outline: ring,
-        regions: vec![],
-        holes: vec![],
-        boundaries: vec![
-            Boundary {
-                name: "cold".into(),
-                kind: BoundaryKind::Fixed { temperature: 0.0 },
-                size: None,
-            },
-            Boundary {
-                name: "warm".into(),
-                kind: BoundaryKind::Fixed { temperature: 20.0 },
-                size: None,
-            },
-        ],
-        probes: vec![],
-        lines: vec![],
-        warnings: vec![],
-    }
+    let points: Vec<String> = mesh
+        .nodes
+        .iter()
+        .map(|p| format!("[{:?}, {:?}]", p[0], p[1]))
+        .collect();
+    let text = format!(
+        r#"title = "Two triangles"
+[mesh]
+max_area = 1.0
+min_angle = 20.0
+[materials.concrete]
+conductivity = 1.6
+[materials.steel]
+conductivity = 50.0
+[outline]
+material = "concrete"
+points = [{}]
+edges = ["warm", "", "cold", ""]
+[boundaries.cold]
+kind = "fixed"
+temperature = 0.0
+[boundaries.warm]
+kind = "fixed"
+temperature = 20.0
+"#,
+        points.join(", ")
+    );
+    crate::model::validate(&crate::model::parse(&text).unwrap()).unwrap()
 }
 
 fn scratch_dir(name: &str) -> PathBuf {

@@ -4,7 +4,7 @@
 use crate::CAUTION;
 use crate::mesh::{self, Mesh};
 use crate::model::{BoundaryKind, Ring, Section};
-use crate::run::{Prepared, Solved};
+use crate::run::{CheckStatus, Prepared, Solved};
 use std::fmt::Write;
 
 fn ring_line(r: &Ring) -> String {
@@ -294,17 +294,14 @@ pub fn solve_report(sv: &Solved) -> String {
             o,
             "  {:<18} {} ({})",
             c.name,
-            if c.passed {
-                "pass"
-            } else if c.severity == "error" {
-                "FAIL"
-            } else {
-                "WARN"
+            match c.status() {
+                CheckStatus::Passed => "pass",
+                CheckStatus::Failed => "FAIL",
+                CheckStatus::Warning => "WARN",
             },
             c.detail
         );
     }
-    o.push_str(&warnings_report(&sv.warnings));
     let _ = writeln!(o, "CAUTION: {CAUTION}");
     o
 }

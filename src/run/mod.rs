@@ -26,8 +26,11 @@ pub const MAX_PRINCIPLE_TOLERANCE: f64 = 1e-6;
 /// A validated model with its segment set.
 #[derive(Debug, Clone)]
 pub struct Prepared {
+    /// The model file as read.
     pub model: ModelFile,
+    /// The validated section.
     pub section: Section,
+    /// Its segment set (geometry stage).
     pub pslg: Pslg,
 }
 
@@ -66,53 +69,54 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
     })
 }
 
-/// One numerical self-check.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Check {
-    pub name: String,
-    pub value: f64,
-    pub tolerance: f64,
-    pub passed: bool,
-    /// "error": a failed check fails the run; "warning": reported only.
-    pub severity: String,
-    pub detail: String,
-}
-
 /// Wall-clock time per stage, seconds.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Timings {
+    /// Meshing.
     pub mesh_s: f64,
+    /// Assembly.
     pub assemble_s: f64,
+    /// Linear solve.
     pub solve_s: f64,
+    /// Post-processing and error estimate.
     pub post_s: f64,
 }
 
 /// A solved section with everything derived from it.
 #[derive(Debug, Clone)]
 pub struct Solved {
+    /// The model solved.
     pub prepared: Prepared,
+    /// The mesh solved on.
     pub mesh: Mesh,
+    /// The assembled system.
     pub system: System,
+    /// Nodal temperatures.
     pub solution: Solution,
+    /// Everything derived from them.
     pub results: Results,
     /// Zienkiewicz–Zhu error estimate of the field.
     pub error_estimate: ErrorEstimate,
     /// Adaptive refinement history (empty for a plain solve).
     pub adaptivity: Vec<Cycle>,
+    /// Numerical self-checks.
     pub checks: Vec<Check>,
+    /// Warnings of every stage and of self-checks of severity warning, each once.
     pub warnings: Vec<String>,
+    /// Wall-clock time per stage.
     pub timings: Timings,
 }
 
 impl Solved {
+    /// The validated section.
     pub fn section(&self) -> &Section {
         &self.prepared.section
     }
-    /// True when every check of severity "error" passed.
+    /// True when no check failed (checks of severity warning only warn).
     pub fn checks_passed(&self) -> bool {
         self.checks
             .iter()
-            .all(|c| c.passed || c.severity != "error")
+            .all(|c| c.status() != CheckStatus::Failed)
     }
 }
 
@@ -157,7 +161,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     }
     let checks = self_checks(&prepared.section, &mesh, &solution, &results);
     for c in &checks {
-        if !c.passed && c.severity == "warning" {
+        if c.status() == CheckStatus::Warning {
             warnings.push(format!("self-check {}: {}", c.name, c.detail));
         }
     }
@@ -183,11 +187,15 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
 /// One cycle of adaptive refinement.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Cycle {
+    /// 0 = the first mesh.
     pub cycle: usize,
+    /// Triangles of this cycle's mesh.
     pub triangles: usize,
+    /// Nodes of this cycle's mesh.
     pub nodes: usize,
     /// Relative energy-norm error estimate (Zienkiewicz–Zhu).
     pub relative_error: f64,
+    /// Energy-norm error estimate, absolute.
     pub energy_norm_error: f64,
 }
 

@@ -10,15 +10,21 @@ pub const DORFLER_FRACTION: f64 = 0.5;
 /// Largest number of adaptive cycles.
 pub const MAX_CYCLES: usize = 30;
 
-/// Adaptive refinement: solve, estimate the error, refine where the indicator carries half the
-/// squared estimate (Dörfler marking), until the relative energy-norm estimate is at most
-/// `target` or the next mesh would exceed `opts.max_triangles`.
-pub fn solve_adaptive(prepared: Prepared, opts: &MeshOptions, target: f64) -> Result<Solved> {
+/// Accept a target relative error (`--target-error`): a fraction strictly between 0 and 1.
+pub fn check_target_error(target: f64) -> Result<()> {
     if !(target.is_finite() && target > 0.0 && target < 1.0) {
         return Err(Error::input(format!(
             "--target-error = {target}: give a fraction between 0 and 1 (0.05 = 5 %)"
         )));
     }
+    Ok(())
+}
+
+/// Adaptive refinement: solve, estimate the error, refine where the indicator carries half the
+/// squared estimate (Dörfler marking), until the relative energy-norm estimate is at most
+/// `target` or the next mesh would exceed `opts.max_triangles`.
+pub fn solve_adaptive(prepared: Prepared, opts: &MeshOptions, target: f64) -> Result<Solved> {
+    check_target_error(target)?;
     let mut history = Vec::new();
     let mut mesher = mesh::Mesher::new(&prepared.section, &prepared.pslg, opts)?;
     let t0 = Instant::now();

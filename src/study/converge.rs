@@ -4,8 +4,9 @@
 use crate::error::{Error, Result};
 use crate::mesh::MeshOptions;
 use crate::model;
-use crate::post::estimate::{ErrorEstimate, zz_estimate};
-use crate::run::{self, Prepared};
+use crate::post::Results;
+use crate::post::estimate::ErrorEstimate;
+use crate::run::{self, Prepared, Solved};
 use crate::study::gci::{CONSTANT_RELATIVE_TOLERANCE, Gci, PLAUSIBLE_ORDER, gci};
 use crate::text::format_f64;
 use serde::Serialize;
@@ -21,10 +22,13 @@ pub struct StudyLevel {
     pub level: usize,
     /// m²
     pub max_area: f64,
+    /// Nodes of the level's mesh.
     pub nodes: usize,
+    /// Triangles of the level's mesh.
     pub triangles: usize,
     /// Representative size (A/N)^½, m.
     pub h: f64,
+    /// Smallest angle of the level's mesh, degrees.
     pub min_angle_deg: f64,
     /// ZZ estimate of this level.
     pub error_estimate: ErrorEstimate,
@@ -35,9 +39,11 @@ pub struct StudyLevel {
 pub struct StudyQuantity {
     /// `probe:NAME`, `heat_flow:BOUNDARY`, `t_min`, `t_max`.
     pub quantity: String,
+    /// `degC` or `W/m`.
     pub unit: String,
     /// Per level, coarsest first.
     pub values: Vec<f64>,
+    /// Observed order, extrapolation and GCI from the finest three levels.
     pub gci: Gci,
 }
 
@@ -46,7 +52,9 @@ pub struct StudyQuantity {
 pub struct StudyCircle {
     /// `outline`, `regions[i]`, `holes[i]`.
     pub ring: String,
+    /// Radius, m.
     pub radius: f64,
+    /// Segment count at every level.
     pub segments: usize,
     /// r(1 − cos(π/N)), m: the polygon's largest distance from the circle.
     pub sagitta: f64,
@@ -58,14 +66,21 @@ pub struct StudyCircle {
 /// A mesh convergence study of one model.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ConvergenceStudy {
+    /// The model's title.
     pub title: String,
+    /// The meshes, coarsest first.
     pub levels: Vec<StudyLevel>,
+    /// Every quantity over the levels.
     pub quantities: Vec<StudyQuantity>,
+    /// Circles and their fixed discretisation.
     pub circles: Vec<StudyCircle>,
+    /// How the study was done and how to read it.
     pub notes: Vec<String>,
+    /// Warnings of every level (prefixed `level N:`), each once.
     pub warnings: Vec<String>,
 }
 
+/// Fix a circle ring's segment count at the finest level's value: (radius, segments, given).
 fn fixed_circle_segments(
     ring: &mut model::RingFile,
     boundaries: &std::collections::BTreeMap<String, model::BoundaryFile>,
@@ -76,6 +91,16 @@ fn fixed_circle_segments(
     let from_model = c.segments.is_some();
     c.segments = Some(n);
     Some((c.radius, n, from_model))
+}
+
+/// Accept a level count (`--levels`): a convergence study needs at least 3 levels.
+pub fn check_levels(levels: usize) -> Result<()> {
+    if levels < 3 {
+        return Err(Error::input(format!(
+            "--levels = {levels}: a convergence study needs at least 3 levels"
+        )));
+    }
+    Ok(())
 }
 
 /// Solve a prepared model on `levels` meshes, level 1 with the model's own `max_area` and each
@@ -90,11 +115,24 @@ pub fn convergence_study(
     levels: usize,
     opts: &MeshOptions,
 ) -> Result<ConvergenceStudy> {
-    if levels < 3 {
-        return Err(Error::input(format!(
-            "--levels = {levels}: a convergence study needs at least 3 levels"
-        )));
-    }
+    check_levels(levels)?;
+    check_finest_level(prepared, levels, opts)?;
+    let base = prepared.section.mesh.max_area;
+    let (model, circles) = fixed_circles(prepared, levels);
+    let (study_levels, solved_levels, warnings) = solve_levels(&model, base, levels, opts)?;
+    let quantities = study_quantities(&study_levels, &solved_levels)?;
+    Ok(ConvergenceStudy {
+        title: prepared.section.title.clone(),
+        levels: study_levels,
+        notes: study_notes(base, !circles.is_empty()),
+        quantities,
+        circles,
+        warnings,
+    })
+}
+
+/// Refuse a study whose finest level is estimated above the triangle limit.
+fn check_finest_level(prepared: &Prepared, levels: usize, opts: &MeshOptions) -> Result<()> {
     let base = prepared.section.mesh.max_area;
     let finest = base / 4f64.powi(levels as i32 - 1);
     let area = crate::mesh::section_area(&prepared.section);
@@ -106,67 +144,82 @@ pub fn convergence_study(
             opts.max_triangles
         )));
     }
+    Ok(())
+}
 
-    // The model with circle segment counts fixed at the finest level's value.
+/// The model with circle segment counts fixed at the finest level's value, and those circles.
+fn fixed_circles(prepared: &Prepared, levels: usize) -> (model::ModelFile, Vec<StudyCircle>) {
     let mut model = prepared.model.clone();
     let finest_scale = 4f64.powi(levels as i32 - 1);
+    let finest = prepared.section.mesh.max_area / finest_scale;
     let mut boundaries = model.boundaries.clone();
     for b in boundaries.values_mut() {
         b.size = b.size.map(|h| h / finest_scale.sqrt());
     }
+    let rings = model
+        .outline
+        .iter_mut()
+        .map(|o| ("outline".to_string(), o))
+        .chain(
+            model
+                .regions
+                .iter_mut()
+                .enumerate()
+                .map(|(i, r)| (format!("regions[{i}]"), r)),
+        )
+        .chain(
+            model
+                .holes
+                .iter_mut()
+                .enumerate()
+                .map(|(i, r)| (format!("holes[{i}]"), r)),
+        );
     let mut circles = Vec::new();
-    if let Some(o) = model.outline.as_mut()
-        && let Some((radius, segments, from_model)) = fixed_circle_segments(o, &boundaries, finest)
-    {
-        circles.push(("outline".to_string(), radius, segments, from_model));
-    }
-    for (i, r) in model.regions.iter_mut().enumerate() {
-        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, &boundaries, finest)
+    for (ring, r) in rings {
+        if let Some((radius, segments, segments_from_model)) =
+            fixed_circle_segments(r, &boundaries, finest)
         {
-            circles.push((format!("regions[{i}]"), radius, segments, from_model));
-        }
-    }
-    for (i, r) in model.holes.iter_mut().enumerate() {
-        if let Some((radius, segments, from_model)) = fixed_circle_segments(r, &boundaries, finest)
-        {
-            circles.push((format!("holes[{i}]"), radius, segments, from_model));
-        }
-    }
-    let circles: Vec<StudyCircle> = circles
-        .into_iter()
-        .map(
-            |(ring, radius, segments, segments_from_model)| StudyCircle {
-                sagitta: model::Circle {
-                    center: [0.0, 0.0],
-                    radius,
-                    segments,
-                }
-                .sagitta(),
+            let sagitta = model::Circle {
+                center: [0.0, 0.0],
+                radius,
+                segments,
+            }
+            .sagitta();
+            circles.push(StudyCircle {
                 ring,
                 radius,
                 segments,
+                sagitta,
                 segments_from_model,
-            },
-        )
-        .collect();
+            });
+        }
+    }
+    (model, circles)
+}
 
+/// Solve every level; failed self-checks fail the study, warnings are kept once each.
+fn solve_levels(
+    model: &model::ModelFile,
+    base: f64,
+    levels: usize,
+    opts: &MeshOptions,
+) -> Result<(Vec<StudyLevel>, Vec<Solved>, Vec<String>)> {
     let mut study_levels = Vec::with_capacity(levels);
     let mut solved_levels = Vec::with_capacity(levels);
     let mut warnings: Vec<String> = Vec::new();
     for level in 0..levels {
-        let max_area = base / 4f64.powi(level as i32);
+        let scale = 4f64.powi(level as i32);
+        let max_area = base / scale;
         let mut m = model.clone();
         m.mesh.max_area = Some(max_area);
         // Local size controls refine with the global limit: areas / 4, lengths / 2 per level.
-        let scale = 4f64.powi(level as i32);
         for mat in m.materials.values_mut() {
             mat.max_area = mat.max_area.map(|a| a / scale);
         }
         for b in m.boundaries.values_mut() {
             b.size = b.size.map(|h| h / scale.sqrt());
         }
-        let p = run::prepare_model(m)?;
-        let sv = run::solve(p, opts)?;
+        let sv = run::solve(run::prepare_model(m)?, opts)?;
         if let Some(e) = run::failed_checks_error(&sv) {
             return Err(Error::run(format!("level {}: {e}", level + 1)));
         }
@@ -176,7 +229,6 @@ pub fn convergence_study(
                 warnings.push(w);
             }
         }
-        let est = zz_estimate(sv.section(), &sv.mesh, &sv.system, &sv.results)?;
         let nt = sv.mesh.triangles.len();
         study_levels.push(StudyLevel {
             level: level + 1,
@@ -185,15 +237,17 @@ pub fn convergence_study(
             triangles: nt,
             h: (sv.mesh.stats.area.abs() / nt as f64).sqrt(),
             min_angle_deg: sv.mesh.stats.min_angle_deg,
-            error_estimate: est,
+            error_estimate: sv.error_estimate.clone(),
         });
         solved_levels.push(sv);
     }
+    Ok((study_levels, solved_levels, warnings))
+}
 
-    // Quantities, in a fixed order: probes (model order), heat flows (boundary name order),
-    // t_min, t_max.
+/// The quantities studied, in a fixed order: probes (model order), heat flows (boundary name
+/// order), t_min, t_max; each with its unit and the scale its changes are judged against.
+fn quantity_names(solved_levels: &[Solved]) -> Vec<(String, String, f64)> {
     let first = &solved_levels[0];
-    let mut names: Vec<(String, String, f64)> = Vec::new();
     let t_scale = solved_levels
         .iter()
         .map(|s| s.results.t_min.value.abs().max(s.results.t_max.value.abs()))
@@ -209,6 +263,7 @@ pub fn convergence_study(
                 + s.results.heat_source.abs()
         })
         .fold(0.0, f64::max);
+    let mut names: Vec<(String, String, f64)> = Vec::new();
     for p in &first.results.probes {
         names.push((format!("probe:{}", p.name), "degC".into(), t_scale));
     }
@@ -219,33 +274,47 @@ pub fn convergence_study(
     }
     names.push(("t_min".into(), "degC".into(), t_scale));
     names.push(("t_max".into(), "degC".into(), t_scale));
+    names
+}
+
+/// The value of one quantity in one level's results.
+fn quantity_value(r: &Results, quantity: &str) -> Option<f64> {
+    if let Some(name) = quantity.strip_prefix("probe:") {
+        r.probes
+            .iter()
+            .find(|p| p.name == name)
+            .map(|p| p.temperature)
+    } else if let Some(name) = quantity.strip_prefix("heat_flow:") {
+        Some(
+            r.boundaries
+                .iter()
+                .find(|b| b.name == name)
+                .map_or(0.0, |b| b.heat_flow),
+        )
+    } else if quantity == "t_min" {
+        Some(r.t_min.value)
+    } else {
+        Some(r.t_max.value)
+    }
+}
+
+/// Every quantity over the levels with its GCI.
+fn study_quantities(
+    study_levels: &[StudyLevel],
+    solved_levels: &[Solved],
+) -> Result<Vec<StudyQuantity>> {
     let h: Vec<f64> = study_levels.iter().map(|l| l.h).collect();
+    let names = quantity_names(solved_levels);
     let mut quantities = Vec::with_capacity(names.len());
     for (quantity, unit, scale) in names {
-        let mut values = Vec::with_capacity(levels);
-        for (i, sv) in solved_levels.iter().enumerate() {
-            let r = &sv.results;
-            let v = if let Some(name) = quantity.strip_prefix("probe:") {
-                r.probes
-                    .iter()
-                    .find(|p| p.name == name)
-                    .map(|p| p.temperature)
-            } else if let Some(name) = quantity.strip_prefix("heat_flow:") {
-                Some(
-                    r.boundaries
-                        .iter()
-                        .find(|b| b.name == name)
-                        .map_or(0.0, |b| b.heat_flow),
-                )
-            } else if quantity == "t_min" {
-                Some(r.t_min.value)
-            } else {
-                Some(r.t_max.value)
-            };
-            values.push(
-                v.ok_or_else(|| Error::run(format!("level {}: no value of {quantity}", i + 1)))?,
-            );
-        }
+        let values = solved_levels
+            .iter()
+            .enumerate()
+            .map(|(i, sv)| {
+                quantity_value(&sv.results, &quantity)
+                    .ok_or_else(|| Error::run(format!("level {}: no value of {quantity}", i + 1)))
+            })
+            .collect::<Result<Vec<f64>>>()?;
         let gci = gci(&h, &values, scale)?;
         quantities.push(StudyQuantity {
             quantity,
@@ -254,7 +323,11 @@ pub fn convergence_study(
             gci,
         });
     }
+    Ok(quantities)
+}
 
+/// The notes written with the study: how the levels were built and how to read the GCI.
+fn study_notes(base: f64, has_circles: bool) -> Vec<String> {
     let mut notes = vec![
         format!(
             "level 1 uses the model's max_area = {} m²; each further level divides it by 4. The levels are independent quality Delaunay meshes (not nested); h = (A/N)^½ from the meshed area A and the actual triangle count N, r = h_coarse/h_fine (Celik et al. 2008).",
@@ -268,15 +341,8 @@ pub fn convergence_study(
         "gci_fine is in the unit of the quantity; gci_fine_percent is relative to the finest value. For temperatures in degC the percentage depends on the origin of the scale: use the absolute value.".to_string(),
         "the GCI estimates the discretisation error of the mesh only; it does not cover model assumptions or input data.".to_string(),
     ];
-    if !circles.is_empty() {
+    if has_circles {
         notes.push("circles keep one segment count at every level (the finest level's, or the model's own `segments`), so every level meshes the same polygon: the GCI covers the mesh error on that polygon, not the polygon-versus-circle difference, bounded by the sagitta listed per circle. A consequence: on coarse levels the mesh near a circle is already as fine as its fixed segments, so the local refinement ratio there is smaller than the global r = h2/h1 and orders of quantities dominated by a circle (its heat flow) may appear low.".to_string());
     }
-    Ok(ConvergenceStudy {
-        title: prepared.section.title.clone(),
-        levels: study_levels,
-        quantities,
-        circles,
-        notes,
-        warnings,
-    })
+    notes
 }

@@ -1,0 +1,118 @@
+//! The echoed model: a [`Section`] written back as a [`ModelFile`] with its resolved values
+//! (defaults filled in, circle segment counts, rings cleaned up and counter-clockwise), in the
+//! model file's own key names, so that the echo reads back as a model file.
+
+use super::{
+    Boundary, BoundaryFile, BoundaryKind, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile,
+    ProbeFile, Ring, RingFile, Section,
+};
+
+impl Section {
+    /// The model as resolved with its defaults, for the `model` object of summary.json: a
+    /// [`ModelFile`] (see [`Section::resolved_model`]) as JSON.
+    pub fn resolved_json(&self) -> serde_json::Value {
+        // A ModelFile holds only strings, numbers, arrays and maps: it always serialises.
+        serde_json::to_value(self.resolved_model()).unwrap_or(serde_json::Value::Null)
+    }
+
+    /// The section as a model file with every resolved value written out: title, max_area and
+    /// min_angle, heat sources, circle segment counts, and rings as validated (repeated points
+    /// dropped, counter-clockwise, one boundary name per segment).
+    pub fn resolved_model(&self) -> ModelFile {
+        ModelFile {
+            title: Some(self.title.clone()),
+            mesh: MeshFile {
+                max_area: Some(self.mesh.max_area),
+                min_angle: Some(self.mesh.min_angle),
+            },
+            materials: self
+                .materials
+                .iter()
+                .map(|m| {
+                    let file = MaterialFile {
+                        conductivity: m.conductivity,
+                        heat_source: Some(m.heat_source),
+                        max_area: m.max_area,
+                    };
+                    (m.name.clone(), file)
+                })
+                .collect(),
+            outline: Some(self.ring_file(&self.outline, Some(self.outline_material))),
+            regions: self
+                .regions
+                .iter()
+                .map(|r| self.ring_file(&r.ring, Some(r.material)))
+                .collect(),
+            holes: self.holes.iter().map(|h| self.ring_file(h, None)).collect(),
+            boundaries: self
+                .boundaries
+                .iter()
+                .map(|b| (b.name.clone(), boundary_file(b)))
+                .collect(),
+            probes: self
+                .probes
+                .iter()
+                .map(|p| ProbeFile {
+                    name: p.name.clone(),
+                    at: p.at,
+                })
+                .collect(),
+            lines: self
+                .lines
+                .iter()
+                .map(|l| LineFile {
+                    name: l.name.clone(),
+                    from: l.from,
+                    to: l.to,
+                    samples: l.samples,
+                })
+                .collect(),
+        }
+    }
+
+    /// One ring as written: a circle with its segment count and one boundary name, or the
+    /// points with one name per segment (none when every segment is unnamed).
+    fn ring_file(&self, ring: &Ring, material: Option<usize>) -> RingFile {
+        let name =
+            |b: &Option<usize>| b.map_or(String::new(), |id| self.boundaries[id].name.clone());
+        let named = ring.edge_boundary.iter().any(Option::is_some);
+        let mut file = RingFile {
+            material: material.map(|m| self.materials[m].name.clone()),
+            ..RingFile::default()
+        };
+        match ring.circle {
+            Some(c) => {
+                file.circle = Some(CircleFile {
+                    center: c.center,
+                    radius: c.radius,
+                    segments: Some(c.segments),
+                });
+                file.boundary = ring.edge_boundary.first().filter(|_| named).map(name);
+            }
+            None => {
+                file.points = Some(ring.points.clone());
+                file.edges = named.then(|| ring.edge_boundary.iter().map(name).collect());
+            }
+        }
+        file
+    }
+}
+
+/// One boundary as written: its kind's name and values, and its size.
+fn boundary_file(b: &Boundary) -> BoundaryFile {
+    let mut file = BoundaryFile {
+        kind: b.kind.name().to_string(),
+        size: b.size,
+        ..BoundaryFile::default()
+    };
+    match b.kind {
+        BoundaryKind::Fixed { temperature } => file.temperature = Some(temperature),
+        BoundaryKind::Insulated => {}
+        BoundaryKind::Flux { flux } => file.flux = Some(flux),
+        BoundaryKind::Convection { h, ambient } => {
+            file.h = Some(h);
+            file.ambient = Some(ambient);
+        }
+    }
+    file
+}

@@ -1,0 +1,196 @@
+//! The model file: serde types that mirror the TOML one to one, reading ([`parse`], [`load`])
+//! with errors that name the line, column and offending key.
+
+use super::Section;
+use super::suggest::suggest;
+use crate::error::{Error, Result};
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// The whole model file as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ModelFile {
+    /// Title shown in reports (default "untitled").
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub title: Option<String>,
+    /// `[mesh]`: global mesh controls.
+    #[serde(default)]
+    pub mesh: MeshFile,
+    /// `[materials.NAME]`.
+    #[serde(default)]
+    pub materials: BTreeMap<String, MaterialFile>,
+    /// `[outline]`: the section's outer ring.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub outline: Option<RingFile>,
+    /// `[[regions]]`: rings of another material inside the outline.
+    #[serde(default)]
+    pub regions: Vec<RingFile>,
+    /// `[[holes]]`: rings holding no material.
+    #[serde(default)]
+    pub holes: Vec<RingFile>,
+    /// `[boundaries.NAME]`: boundary conditions.
+    #[serde(default)]
+    pub boundaries: BTreeMap<String, BoundaryFile>,
+    /// `[[probes]]`: points where the temperature is reported.
+    #[serde(default)]
+    pub probes: Vec<ProbeFile>,
+    /// `[[lines]]`: sampled lines.
+    #[serde(default)]
+    pub lines: Vec<LineFile>,
+}
+
+/// `[mesh]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct MeshFile {
+    /// Largest triangle, m².
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub max_area: Option<f64>,
+    /// Smallest angle of the quality mesh, degrees.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub min_angle: Option<f64>,
+}
+
+/// `[materials.NAME]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct MaterialFile {
+    /// W/(m·K)
+    pub conductivity: f64,
+    /// W/m³
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub heat_source: Option<f64>,
+    /// m²: largest triangle in this material (local size control); default: the mesh's.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub max_area: Option<f64>,
+}
+
+/// A ring (outline, region or hole) as written: `points` or `circle`, named by `edges` (one
+/// name per segment) or `boundary` (one name for all).
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct RingFile {
+    /// Material inside the ring (outline and regions).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub material: Option<String>,
+    /// Corner points, m.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub points: Option<Vec<[f64; 2]>>,
+    /// A circle instead of points.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub circle: Option<CircleFile>,
+    /// Boundary name of each segment ("" = unnamed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub edges: Option<Vec<String>>,
+    /// One boundary name for every segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub boundary: Option<String>,
+}
+
+/// A circle as written.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CircleFile {
+    /// Centre, m.
+    pub center: [f64; 2],
+    /// Radius, m.
+    pub radius: f64,
+    /// Segment count of the inscribed polygon (default: from max_area or the boundary's size).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segments: Option<usize>,
+}
+
+/// A boundary condition as written. Kept flat so that a key that does not belong to the kind
+/// can be named in the error message.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct BoundaryFile {
+    /// `fixed`, `insulated`, `flux` or `convection`.
+    pub kind: String,
+    /// Fixed temperature, °C.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub temperature: Option<f64>,
+    /// Film coefficient, W/(m²·K).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub h: Option<f64>,
+    /// Ambient temperature, °C.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ambient: Option<f64>,
+    /// Imposed flux, W/m², positive into the section.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub flux: Option<f64>,
+    /// m: target edge length of the mesh along this boundary (local size control).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub size: Option<f64>,
+}
+
+/// `[[probes]]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ProbeFile {
+    /// Probe name.
+    pub name: String,
+    /// Position, m.
+    pub at: [f64; 2],
+}
+
+/// `[[lines]]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct LineFile {
+    /// Line name.
+    pub name: String,
+    /// Start point, m.
+    pub from: [f64; 2],
+    /// End point, m.
+    pub to: [f64; 2],
+    /// Number of sample points, at least 2.
+    pub samples: usize,
+}
+
+/// Parse the TOML text of a model file. Syntax errors, unknown keys and wrong types are
+/// reported with the line and column, the offending line, and for a misspelt key the nearest
+/// valid one.
+pub fn parse(text: &str) -> Result<ModelFile> {
+    toml::from_str::<ModelFile>(text).map_err(|e| {
+        let mut msg = e.message().trim_end().to_string();
+        if let Some(hint) = unknown_key_hint(&msg) {
+            msg.push_str(&hint);
+        }
+        match e.span() {
+            Some(span) => located_error(text, span.start, &msg),
+            None => Error::input(format!("model file: {msg}")),
+        }
+    })
+}
+
+/// An input error at byte `start` of `text`: line, column and the offending line.
+fn located_error(text: &str, start: usize, msg: &str) -> Error {
+    let start = start.min(text.len());
+    let line = text[..start].matches('\n').count() + 1;
+    let line_start = text[..start].rfind('\n').map_or(0, |i| i + 1);
+    let column = text[line_start..start].chars().count() + 1;
+    let line_text = text[line_start..].lines().next().unwrap_or("").trim_end();
+    Error::input(format!(
+        "model file, line {line}, column {column}: {msg}\n  {line} | {line_text}"
+    ))
+}
+
+/// For serde's "unknown field `x`, expected one of `a`, `b`" message: "; did you mean `a`?".
+fn unknown_key_hint(msg: &str) -> Option<String> {
+    let rest = msg.strip_prefix("unknown field `")?;
+    let end = rest.find('`')?;
+    let key = &rest[..end];
+    let expected: Vec<&str> = rest[end + 1..].split('`').skip(1).step_by(2).collect();
+    suggest(key, expected.iter().copied()).map(|s| format!("; did you mean `{s}`?"))
+}
+
+/// Read, parse and validate a model file.
+pub fn load(path: &std::path::Path) -> Result<(ModelFile, Section)> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| Error::input(format!("cannot read model file {}: {e}", path.display())))?;
+    let file = parse(&text)?;
+    let section = super::validate(&file)?;
+    Ok((file, section))
+}
