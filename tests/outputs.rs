@@ -121,9 +121,9 @@ fn demo_outputs_are_complete_and_read_back() {
     let point = shape(&piece.data.point);
     let cell = shape(&piece.data.cell);
     for (name, comp) in [
-        ("temperature", 1),
-        ("heat_flux_nodal", 3),
-        ("gradient_nodal", 3),
+        ("temperature_c", 1),
+        ("heat_flux_nodal_w_per_m2", 3),
+        ("gradient_nodal_k_per_m", 3),
     ] {
         assert!(
             point.contains(&(name.to_string(), comp, comp * nodes)),
@@ -131,8 +131,8 @@ fn demo_outputs_are_complete_and_read_back() {
         );
     }
     for (name, comp) in [
-        ("heat_flux", 3),
-        ("gradient", 3),
+        ("heat_flux_w_per_m2", 3),
+        ("gradient_k_per_m", 3),
         ("material", 1),
         ("error_indicator", 1),
     ] {
