@@ -171,6 +171,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
                 None => run::solve(p, &o)?,
             };
             let text = report::solve_report(&solved);
+            eprintln!("CAUTION: {}", xsheat::CAUTION);
             for c in solved.checks.iter().filter(|c| !c.passed) {
                 eprintln!(
                     "{}: self-check {} failed: {}",
@@ -210,6 +211,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
             let study = converge::convergence_study(&p, levels, &o)?;
             let written = output::convergence_files(&study)?.commit(&out)?;
             print!("{}", report::convergence_report(&study));
+            eprintln!("CAUTION: {}", xsheat::CAUTION);
             eprint!("{}", report::warnings_report(&study.warnings));
             println!("wrote {} files to {}", written.len(), out.display());
             Ok(())

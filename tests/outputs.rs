@@ -6,7 +6,8 @@ use std::process::Command;
 use vtkio::Vtk;
 use vtkio::model::{Attribute, DataSet, Piece};
 
-fn solve_into(model: &str, out: &Path) -> String {
+/// Runs `xsheat solve MODEL --out OUT` and returns (stdout, stderr).
+fn solve_into(model: &str, out: &Path) -> (String, String) {
     let _ = std::fs::remove_dir_all(out);
     let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
         .arg("solve")
@@ -16,13 +17,9 @@ fn solve_into(model: &str, out: &Path) -> String {
         .output()
         .unwrap();
     let stdout = String::from_utf8_lossy(&o.stdout).to_string();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{stdout}{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-    stdout
+    let stderr = String::from_utf8_lossy(&o.stderr).to_string();
+    assert_eq!(o.status.code(), Some(0), "{stdout}{stderr}");
+    (stdout, stderr)
 }
 
 fn tmp(name: &str) -> PathBuf {
@@ -43,9 +40,19 @@ fn header(path: &Path) -> String {
 #[test]
 fn demo_outputs_are_complete_and_read_back() {
     let out = tmp("dam");
-    let stdout = solve_into("geometry/gallery-dam.toml", &out);
-    assert!(stdout.contains("CAUTION"));
-    assert!(stdout.contains("qualified engineer"));
+    let (stdout, stderr) = solve_into("geometry/gallery-dam.toml", &out);
+    // The report holds results only; the caution goes to stderr.
+    assert!(!stdout.contains("CAUTION"), "{stdout}");
+    assert!(stderr.contains("CAUTION"), "{stderr}");
+    assert!(stderr.contains("qualified engineer"), "{stderr}");
+    for s in [
+        "Zienkiewicz–Zhu estimate: 0.",
+        "heat flow W/m",
+        "self-checks:",
+    ] {
+        assert!(stdout.contains(s), "solve output lacks {s}: {stdout}");
+    }
+    assert!(!stdout.contains("-0.0000"), "{stdout}");
     assert_eq!(header(&out.join("nodes.csv")), "node,x_m,y_m,temperature_c");
     assert_eq!(
         header(&out.join("probes.csv")),
@@ -85,6 +92,8 @@ fn demo_outputs_are_complete_and_read_back() {
     ] {
         assert!(summary.get(key).is_some(), "summary.json lacks {key}");
     }
+    assert_eq!(summary["schema"], "xsheat.summary/2");
+    assert_eq!(summary["error_estimate"]["method"], "Zienkiewicz–Zhu");
     let rel = summary["error_estimate"]["relative"].as_f64().unwrap();
     assert!(rel > 0.0 && rel < 1.0, "relative error estimate {rel}");
     let nodes = summary["nodes"].as_u64().unwrap() as usize;
