@@ -51,5 +51,6 @@ fn main() -> Result<(), xsheat::Error> {
 
     let solved = xsheat::run::solve(xsheat::run::prepare_model(m)?, &Default::default())?;
     print!("{}", xsheat::report::solve_report(&solved));
+    eprintln!("CAUTION: {}", xsheat::CAUTION);
     Ok(())
 }

@@ -79,6 +79,10 @@ fn verify_passes_and_writes_its_files() {
     let json: serde_json::Value =
         serde_json::from_slice(&std::fs::read(d.join("verify.json")).unwrap()).unwrap();
     assert_eq!(json["all_passed"], true);
+    assert_eq!(json["schema"], "xsheat.verify/1");
+    // The console table names each case's source, and no "from memory" remark.
+    assert!(stdout.contains("source"), "{stdout}");
+    assert!(!stdout.contains("from memory"), "{stdout}");
 }
 
 #[test]
@@ -144,8 +148,11 @@ fn converge_writes_documented_files_and_flags_constant_quantities() {
     }
     let json: serde_json::Value =
         serde_json::from_slice(&std::fs::read(dir.join("convergence.json")).unwrap()).unwrap();
-    assert_eq!(json["schema"], "xsheat.convergence/1");
+    assert_eq!(json["schema"], "xsheat.convergence/2");
     let study = &json["study"];
+    assert!(study["levels"][0]["max_area_m2"].as_f64().unwrap() > 0.0);
+    assert!(study["circles"][0]["radius_m"].as_f64().unwrap() > 0.0);
+    assert!(stdout.contains("Zienkiewicz–Zhu estimate"), "{stdout}");
     assert_eq!(study["levels"].as_array().unwrap().len(), 4);
     // The circle keeps one segment count at every level.
     assert_eq!(study["circles"][0]["ring"], "holes[0]");

@@ -186,3 +186,38 @@ fn points_outside_are_listed_and_skipped() {
     assert!((rows[0][3] - 10.0).abs() <= 1e-12, "{:?}", rows[0]);
     assert!(rows[0][4].abs() <= 1e-12, "{:?}", rows[0]);
 }
+
+#[test]
+fn compare_reads_the_tools_own_nodes_csv() {
+    let d = tmp("nodes_csv");
+    let (model, nodes) = solved_nodes(&d);
+    let out = d.join("out");
+    let (code, stdout, stderr) = xsheat(&[
+        "compare",
+        model.to_str().unwrap(),
+        "--grid-file",
+        d.join("solve").join("nodes.csv").to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stdout.contains(&format!("{n} points read, {n} inside", n = nodes.len())),
+        "{stdout}"
+    );
+    // Same model, same mesh settings: compare meshes the section exactly as solve did, so every
+    // point of nodes.csv is a mesh node. Linear triangles interpolate with nodal basis
+    // functions (φ_i(x_j) = δ_ij), so the element field there is the node's own value. The
+    // only differences left come from the decimal round trip (nodes.csv holds the shortest
+    // text that reads back to the same f64, so none) and from the barycentric weights of a
+    // vertex being computed as (1, 0, 0) up to round-off: |diff| ≤ 1e-9 K covers that with a
+    // wide margin on temperatures of order 10–100 °C.
+    let rows = diffs(&out.join("compare.csv"));
+    assert_eq!(rows.len(), nodes.len());
+    for (r, (x, y, t)) in rows.iter().zip(&nodes) {
+        assert_eq!(r[0], x.parse::<f64>().unwrap());
+        assert_eq!(r[1], y.parse::<f64>().unwrap());
+        assert_eq!(r[2], *t);
+        assert!(r[4].abs() <= 1e-9, "{r:?}");
+    }
+}

@@ -139,11 +139,11 @@ fn compare_refused(name: &str, csv: &str, want: &[&str]) {
 fn bad_grid_files_are_refused() {
     compare_refused(
         "header",
-        "x_m,y_m,temperature_c\n0.1,0.1,20\n",
+        "x_m,y_m,temperature\n0.1,0.1,20\n",
         &[
             "line 1",
-            "header \"x_m,y_m,temperature_c\"",
-            "expected \"x,y,temperature\"",
+            "header \"x_m,y_m,temperature\"",
+            "\"x,y,temperature\", \"x_m,y_m,temperature_c\" or \"node,x_m,y_m,temperature_c\"",
         ],
     );
     compare_refused(

@@ -222,7 +222,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
     assert!(text.starts_with("x_m,y_m,t_grid_c,t_fe_c,diff_k\n"));
     assert_eq!(text.lines().count(), 1 + 19 * 13);
     let vtu = std::fs::read_to_string(out.join("grid.vtu")).unwrap();
-    assert!(vtu.contains("<VTKFile") && vtu.contains("temperature"));
+    assert!(vtu.contains("<VTKFile") && vtu.contains("Name=\"temperature_c\""));
 
     // Levels with a replaced element max_area: the levels table appears and is written.
     let out2 = d.join("out2");

@@ -468,7 +468,7 @@ fn grid_vtu_round_trips() {
     let Attribute::DataArray(t) = &p.data.point[0] else {
         panic!("no temperature")
     };
-    assert_eq!(t.name, "temperature");
+    assert_eq!(t.name, "temperature_c");
     let values: Vec<f64> = t.data.clone().cast_into().unwrap();
     assert_eq!(values, sol.temperature);
 }

@@ -6,7 +6,7 @@ use std::process::Command;
 use vtkio::Vtk;
 use vtkio::model::{Attribute, DataSet, Piece};
 
-/// Runs `xsheat solve` and returns (stdout, stderr).
+/// Runs `xsheat solve MODEL --out OUT` and returns (stdout, stderr).
 fn solve_into(model: &str, out: &Path) -> (String, String) {
     let _ = std::fs::remove_dir_all(out);
     let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
@@ -41,9 +41,18 @@ fn header(path: &Path) -> String {
 fn demo_outputs_are_complete_and_read_back() {
     let out = tmp("dam");
     let (stdout, stderr) = solve_into("geometry/gallery-dam.toml", &out);
-    // The caution is a diagnostic: on stderr.
+    // The report holds results only; the caution goes to stderr.
+    assert!(!stdout.contains("CAUTION"), "{stdout}");
     assert!(stderr.contains("CAUTION"), "{stderr}");
     assert!(stderr.contains("qualified engineer"), "{stderr}");
+    for s in [
+        "Zienkiewicz–Zhu estimate: 0.",
+        "heat flow W/m",
+        "self-checks:",
+    ] {
+        assert!(stdout.contains(s), "solve output lacks {s}: {stdout}");
+    }
+    assert!(!stdout.contains("-0.0000"), "{stdout}");
     assert!(stdout.contains("files to"), "{stdout}");
     assert_eq!(header(&out.join("nodes.csv")), "node,x_m,y_m,temperature_c");
     assert_eq!(
@@ -84,6 +93,8 @@ fn demo_outputs_are_complete_and_read_back() {
     ] {
         assert!(summary.get(key).is_some(), "summary.json lacks {key}");
     }
+    assert_eq!(summary["schema"], "xsheat.summary/2");
+    assert_eq!(summary["error_estimate"]["method"], "Zienkiewicz–Zhu");
     let rel = summary["error_estimate"]["relative"].as_f64().unwrap();
     assert!(rel > 0.0 && rel < 1.0, "relative error estimate {rel}");
     let nodes = summary["nodes"].as_u64().unwrap() as usize;
@@ -120,9 +131,9 @@ fn demo_outputs_are_complete_and_read_back() {
     let point = shape(&piece.data.point);
     let cell = shape(&piece.data.cell);
     for (name, comp) in [
-        ("temperature", 1),
-        ("heat_flux_nodal", 3),
-        ("gradient_nodal", 3),
+        ("temperature_c", 1),
+        ("heat_flux_nodal_w_per_m2", 3),
+        ("gradient_nodal_k_per_m", 3),
     ] {
         assert!(
             point.contains(&(name.to_string(), comp, comp * nodes)),
@@ -130,8 +141,8 @@ fn demo_outputs_are_complete_and_read_back() {
         );
     }
     for (name, comp) in [
-        ("heat_flux", 3),
-        ("gradient", 3),
+        ("heat_flux_w_per_m2", 3),
+        ("gradient_k_per_m", 3),
         ("material", 1),
         ("error_indicator", 1),
     ] {

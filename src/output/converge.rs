@@ -1,8 +1,11 @@
-//! Files of a convergence study: convergence.csv and convergence.json.
+//! Files of a convergence study: convergence.csv and convergence.json (typed records).
 
-use crate::error::{Error, Result};
+use super::json::{ErrorEstimateOut, OrderedMap, json_bytes, unit_legend};
+use crate::error::Result;
 use crate::output::{self, OutputSet};
 use crate::study::converge::ConvergenceStudy;
+use crate::study::gci::Gci;
+use serde::Serialize;
 
 fn opt(x: Option<f64>) -> String {
     x.map(output::format_f64).unwrap_or_default()
@@ -51,25 +54,115 @@ pub fn convergence_csv(study: &ConvergenceStudy) -> Result<Vec<u8>> {
     output::csv_bytes(&header, rows)
 }
 
-/// `convergence.json`: the whole study (levels with their ZZ estimates, quantities with the GCI
-/// details, circles, notes, warnings). Deterministic: no timings.
+/// Schema of convergence.json (2: unit-suffixed keys, typed error estimate).
+pub const CONVERGENCE_SCHEMA: &str = "xsheat.convergence/2";
+
+#[derive(Serialize)]
+struct LevelOut {
+    level: usize,
+    max_area_m2: f64,
+    nodes: usize,
+    triangles: usize,
+    h_m: f64,
+    min_angle_deg: f64,
+    error_estimate: ErrorEstimateOut,
+}
+
+#[derive(Serialize)]
+struct QuantityOut<'a> {
+    quantity: &'a str,
+    /// Unit of `values` and of the GCI's extrapolated value and `gci_fine`.
+    unit: &'a str,
+    values: &'a [f64],
+    gci: &'a Gci,
+}
+
+#[derive(Serialize)]
+struct CircleOut<'a> {
+    ring: &'a str,
+    radius_m: f64,
+    segments: usize,
+    sagitta_m: f64,
+    segments_from_model: bool,
+}
+
+#[derive(Serialize)]
+struct StudyOut<'a> {
+    title: &'a str,
+    levels: Vec<LevelOut>,
+    quantities: Vec<QuantityOut<'a>>,
+    circles: Vec<CircleOut<'a>>,
+    notes: &'a [String],
+    warnings: &'a [String],
+}
+
+#[derive(Serialize)]
+struct ConvergenceOut<'a> {
+    schema: &'static str,
+    version: &'static str,
+    caution: &'static str,
+    level_order: &'static str,
+    units: OrderedMap<&'static str, &'static str>,
+    error_estimate_method: &'static str,
+    study: StudyOut<'a>,
+}
+
+fn study_out(study: &ConvergenceStudy) -> StudyOut<'_> {
+    StudyOut {
+        title: &study.title,
+        levels: study
+            .levels
+            .iter()
+            .map(|l| LevelOut {
+                level: l.level,
+                max_area_m2: l.max_area,
+                nodes: l.nodes,
+                triangles: l.triangles,
+                h_m: l.h,
+                min_angle_deg: l.min_angle_deg,
+                error_estimate: ErrorEstimateOut::from(&l.error_estimate),
+            })
+            .collect(),
+        quantities: study
+            .quantities
+            .iter()
+            .map(|q| QuantityOut {
+                quantity: &q.quantity,
+                unit: &q.unit,
+                values: &q.values,
+                gci: &q.gci,
+            })
+            .collect(),
+        circles: study
+            .circles
+            .iter()
+            .map(|c| CircleOut {
+                ring: &c.ring,
+                radius_m: c.radius,
+                segments: c.segments,
+                sagitta_m: c.sagitta,
+                segments_from_model: c.segments_from_model,
+            })
+            .collect(),
+        notes: &study.notes,
+        warnings: &study.warnings,
+    }
+}
+
+/// `convergence.json`: the whole study (levels with their Zienkiewicz–Zhu estimates, quantities
+/// with the GCI details, circles, notes, warnings). Deterministic: no timings.
 pub fn convergence_json(study: &ConvergenceStudy) -> Result<Vec<u8>> {
-    let v = serde_json::json!({
-        "schema": "xsheat.convergence/1",
-        "version": crate::VERSION,
-        "caution": crate::CAUTION,
-        "level_order": "level 1 is the coarsest; Celik's index 1 (finest) is the last level",
-        "units": {
-            "h": "m", "max_area": "m2", "degC": "°C", "W/m": "W per metre of section depth",
-            "energy_norm": "(W·K/m)^0.5",
-        },
-        "error_estimate_method": "Zienkiewicz–Zhu, area-weighted gradient recovery per material; relative = eta / sqrt(|T_h|_E^2 + eta^2)",
-        "study": study,
-    });
-    let mut s = serde_json::to_string_pretty(&v)
-        .map_err(|e| Error::run(format!("cannot encode convergence.json: {e}")))?;
-    s.push('\n');
-    Ok(s.into_bytes())
+    let out = ConvergenceOut {
+        schema: CONVERGENCE_SCHEMA,
+        version: crate::VERSION,
+        caution: crate::CAUTION,
+        level_order: "level 1 is the coarsest; Celik's index 1 (finest) is the last level",
+        units: unit_legend(),
+        error_estimate_method: "Zienkiewicz–Zhu, area-weighted gradient recovery per material; \
+                                relative = eta / sqrt(|T_h|_E^2 + eta^2)",
+        study: study_out(study),
+    };
+    json_bytes(&out, "convergence.json")
 }
 
 /// Both files of a study, ready to be committed atomically.

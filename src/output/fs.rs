@@ -2,13 +2,10 @@
 
 use crate::error::{Error, Result};
 use std::collections::BTreeSet;
-use std::fs::{self, OpenOptions};
+use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicU64, Ordering};
-
-/// Distinguishes temporaries of concurrent commits within one process.
-pub(super) static COMMIT_COUNTER: AtomicU64 = AtomicU64::new(0);
+use tempfile::NamedTempFile;
 
 /// A set of files written together, all or nothing.
 ///
@@ -21,6 +18,7 @@ pub struct OutputSet {
 }
 
 impl OutputSet {
+    /// An empty set.
     pub fn new() -> Self {
         Self::default()
     }
@@ -36,10 +34,12 @@ impl OutputSet {
         self.files.iter().map(|(n, _)| n.as_str())
     }
 
+    /// Number of files in the set.
     pub fn len(&self) -> usize {
         self.files.len()
     }
 
+    /// True when the set holds no file.
     pub fn is_empty(&self) -> bool {
         self.files.is_empty()
     }
@@ -47,7 +47,8 @@ impl OutputSet {
     /// Writes every file into `dir` (created if missing) and returns the paths written, in the
     /// order added.
     ///
-    /// Each file is first written to a temporary `.NAME.tmp-<pid>-<n>` in `dir` and flushed to
+    /// Each file is first written to a fresh temporary `.NAME.XXXXXX.tmp` in `dir` (a name
+    /// the `tempfile` crate picks) and flushed to
     /// disk; only when all temporaries are complete are they renamed over their targets. On a
     /// failure before the renames, every temporary is removed and no target is created or
     /// changed. A rename can only fail in between if the file system changes under us (targets
@@ -95,22 +96,23 @@ fn check_file_name(dir: &Path, name: &str) -> Result<()> {
     Ok(())
 }
 
-fn remove_all(paths: &[PathBuf]) {
-    for p in paths {
-        // Best effort: the file was created by us; if it is already gone there is nothing to do.
-        let _ = fs::remove_file(p);
+/// A temporary in `dir` for `name`, named `.NAME.XXXXXX.tmp`, created fresh (never
+/// following or clobbering something already there) with the permissions an ordinary new file
+/// gets (0o666 less the umask on Unix). It is removed when dropped unless persisted.
+fn new_temporary(dir: &Path, name: &str) -> std::io::Result<NamedTempFile> {
+    let prefix = format!(".{name}.");
+    let mut b = tempfile::Builder::new();
+    b.prefix(&prefix).suffix(".tmp");
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        b.permissions(fs::Permissions::from_mode(0o666));
     }
+    b.tempfile_in(dir)
 }
 
-fn write_temporary(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    // create_new: never follow or clobber something that is already there.
-    let mut f = OpenOptions::new().write(true).create_new(true).open(path)?;
-    f.write_all(bytes)?;
-    f.sync_all()
-}
-
-fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
-    // 1. Check every name before touching the disk.
+/// Step 1: every name is a plain file name, none repeated; nothing is touched yet.
+fn check_names(dir: &Path, files: &[(&str, &[u8])]) -> Result<()> {
     let mut seen = BTreeSet::new();
     for (name, _) in files {
         check_file_name(dir, name)?;
@@ -121,18 +123,12 @@ fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
             )));
         }
     }
+    Ok(())
+}
 
-    // 2. The directory.
-    fs::create_dir_all(dir).map_err(|e| {
-        Error::run(format!(
-            "cannot create output directory {}: {e}",
-            dir.display()
-        ))
-    })?;
-
-    // 3. Targets must be absent or replaceable (not directories).
-    let targets: Vec<PathBuf> = files.iter().map(|(n, _)| dir.join(n)).collect();
-    for t in &targets {
+/// Step 3: targets must be absent or replaceable (not directories).
+fn check_targets(targets: &[PathBuf]) -> Result<()> {
+    for t in targets {
         if let Ok(meta) = fs::symlink_metadata(t)
             && meta.is_dir()
         {
@@ -142,32 +138,42 @@ fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
             )));
         }
     }
+    Ok(())
+}
 
-    // 4. Temporaries, each flushed to disk.
-    let pid = std::process::id();
-    let serial = COMMIT_COUNTER.fetch_add(1, Ordering::Relaxed);
-    let mut temps: Vec<PathBuf> = Vec::with_capacity(files.len());
-    for ((name, bytes), target) in files.iter().zip(&targets) {
-        let tmp = dir.join(format!(".{name}.tmp-{pid}-{serial}"));
-        if let Err(e) = write_temporary(&tmp, bytes) {
-            // Only remove the temporary if we created it (AlreadyExists means someone else's).
-            if e.kind() != std::io::ErrorKind::AlreadyExists {
-                temps.push(tmp.clone());
+/// Step 4: every temporary written and flushed to disk. On an error the temporaries made so
+/// far are dropped, which removes them.
+fn write_temporaries(
+    dir: &Path,
+    files: &[(&str, &[u8])],
+    targets: &[PathBuf],
+) -> Result<Vec<NamedTempFile>> {
+    let mut temps = Vec::with_capacity(files.len());
+    for ((name, bytes), target) in files.iter().zip(targets) {
+        let written = new_temporary(dir, name).and_then(|mut f| {
+            f.write_all(bytes)?;
+            f.as_file().sync_all()?;
+            Ok(f)
+        });
+        match written {
+            Ok(f) => temps.push(f),
+            Err(e) => {
+                return Err(Error::run(format!(
+                    "cannot write {} (temporary in {}): {e}; no output file was changed",
+                    target.display(),
+                    dir.display()
+                )));
             }
-            remove_all(&temps);
-            return Err(Error::run(format!(
-                "cannot write {} (temporary {}): {e}; no output file was changed",
-                target.display(),
-                tmp.display()
-            )));
         }
-        temps.push(tmp);
     }
+    Ok(temps)
+}
 
-    // 5. Rename into place.
-    for (i, (tmp, target)) in temps.iter().zip(&targets).enumerate() {
-        if let Err(e) = fs::rename(tmp, target) {
-            remove_all(&temps[i..]);
+/// Step 5: rename every temporary over its target, in order. On a failure the remaining
+/// temporaries are dropped (removed) and the error says which targets were already replaced.
+fn persist_all(temps: Vec<NamedTempFile>, targets: &[PathBuf]) -> Result<()> {
+    for (i, (tmp, target)) in temps.into_iter().zip(targets).enumerate() {
+        if let Err(e) = tmp.persist(target) {
             let done: Vec<String> = targets[..i]
                 .iter()
                 .map(|t| t.display().to_string())
@@ -178,14 +184,30 @@ fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
                 format!("already replaced: {}", done.join(", "))
             };
             return Err(Error::run(format!(
-                "cannot move {} into place as {}: {e}; {state}",
-                tmp.display(),
-                target.display()
+                "cannot move {} into place as {}: {}; {state}",
+                e.file.path().display(),
+                target.display(),
+                e.error
             )));
         }
     }
+    Ok(())
+}
 
-    // 6. Make the renames durable. Best effort: not every platform can open a directory.
+fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
+    check_names(dir, files)?;
+    // Step 2: the directory.
+    fs::create_dir_all(dir).map_err(|e| {
+        Error::run(format!(
+            "cannot create output directory {}: {e}",
+            dir.display()
+        ))
+    })?;
+    let targets: Vec<PathBuf> = files.iter().map(|(n, _)| dir.join(n)).collect();
+    check_targets(&targets)?;
+    let temps = write_temporaries(dir, files, &targets)?;
+    persist_all(temps, &targets)?;
+    // Step 6: make the renames durable. Best effort: not every platform can open a directory.
     if let Ok(d) = fs::File::open(dir) {
         let _ = d.sync_all();
     }

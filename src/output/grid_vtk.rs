@@ -4,8 +4,8 @@ use crate::error::{Error, Result};
 use crate::grid::{GridModel, GridSolution, NodeKind};
 
 /// The solved grid as VTK XML unstructured grid bytes (`.vtu`): the nodes as points (x, y, 0)
-/// with point data `temperature` (°C) and `kind` (Int32: 0 interior, 1 edge, 2 fixed); a quad
-/// cell for every in-section grid cell whose four corners are nodes, with cell data `inside`.
+/// with point data `temperature_c` (°C) and `kind` (Int32: 0 interior, 1 edge, 2 fixed); a quad
+/// cell (no cell data) for every in-section grid cell whose four corners are nodes.
 /// Grid points outside the section are omitted.
 pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
     use vtkio::model::{
@@ -58,7 +58,7 @@ pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
         },
         data: Attributes {
             point: vec![
-                Attribute::scalars("temperature", 1).with_data(solution.temperature.clone()),
+                Attribute::scalars("temperature_c", 1).with_data(solution.temperature.clone()),
                 Attribute::scalars("kind", 1).with_data(kind),
             ],
             cell: vec![],

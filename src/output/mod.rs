@@ -31,13 +31,15 @@
 mod csv;
 mod fs;
 mod json;
+mod summary;
 #[cfg(test)]
 mod tests;
 mod vtk;
 
 pub use csv::*;
 pub use fs::*;
-pub use json::*;
+pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
+pub use summary::*;
 pub use vtk::*;
 mod converge;
 mod solve;

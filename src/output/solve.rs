@@ -1,14 +1,13 @@
 //! The result set of `xsheat solve`: every file of a solved model, in memory.
 
-use crate::error::{Error, Result};
+use crate::error::Result;
+use crate::output::{self, OutputSet};
 use crate::run::Solved;
-use serde::Serialize;
 
 /// All files of a solve, in memory, ready to be committed atomically to a directory.
-pub fn solve_files(sv: &Solved) -> Result<crate::output::OutputSet> {
-    use crate::output;
+pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
     let s = sv.section();
-    let mut set = output::OutputSet::new();
+    let mut set = OutputSet::new();
     set.add(
         "field.vtu",
         output::field_vtu_with(
@@ -23,16 +22,7 @@ pub fn solve_files(sv: &Solved) -> Result<crate::output::OutputSet> {
     for l in &sv.results.lines {
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
-    let checks = serde_json::to_value(&sv.checks).map_err(|e| Error::run(e.to_string()))?;
     let model = s.resolved_json();
-    let mut extra = vec![("error_estimate", json_value(&sv.error_estimate)?)];
-    if !sv.adaptivity.is_empty() {
-        extra.push(("adaptivity", json_value(&sv.adaptivity)?));
-    }
-    let run = serde_json::json!({
-        "timings_s": sv.timings,
-        "note": "the only part of this file that may change from run to run",
-    });
     set.add(
         "summary.json",
         output::summary_json(&output::SummaryInputs {
@@ -40,15 +30,12 @@ pub fn solve_files(sv: &Solved) -> Result<crate::output::OutputSet> {
             mesh: &sv.mesh,
             results: &sv.results,
             warnings: &sv.warnings,
-            checks: &checks,
+            checks: &sv.checks,
+            error_estimate: &sv.error_estimate,
+            adaptivity: &sv.adaptivity,
+            timings: &sv.timings,
             model: &model,
-            run: &run,
-            extra: &extra,
         })?,
     );
     Ok(set)
-}
-
-fn json_value<T: Serialize>(v: &T) -> Result<serde_json::Value> {
-    serde_json::to_value(v).map_err(|e| Error::run(format!("internal: {e}")))
 }

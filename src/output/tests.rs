@@ -1,20 +1,20 @@
 //! Unit tests of the parent module.
 
-use super::fs::COMMIT_COUNTER;
 use super::*;
 use crate::CAUTION;
 use crate::error::Error;
 use crate::mesh::Mesh;
 use crate::mesh::{BoundaryEdge, MeshStats, RingRef};
 use crate::model::Section;
+use crate::post::estimate::ErrorEstimate;
 use crate::post::{BoundaryResult, Extreme, LineSample, ProbeResult};
 use crate::post::{LineResult, Results};
+use crate::run::{Check, Cycle, Timings};
 use serde_json::Value;
 use serde_json::json;
 use std::fs;
 use std::path::Path;
 use std::path::PathBuf;
-use std::sync::atomic::Ordering;
 use vtkio::Vtk;
 use vtkio::model::{Attribute, CellType, DataSet, Piece};
 use vtkio::model::{DataArray, IOBuffer};
@@ -212,14 +212,18 @@ fn field_vtu_parses_back_with_expected_arrays() {
     assert_eq!(
         shape(&point),
         owned(&[
-            ("temperature", 1, 4),
-            ("heat_flux_nodal", 3, 12),
-            ("gradient_nodal", 3, 12)
+            ("temperature_c", 1, 4),
+            ("heat_flux_nodal_w_per_m2", 3, 12),
+            ("gradient_nodal_k_per_m", 3, 12)
         ])
     );
     assert_eq!(
         shape(&cell),
-        owned(&[("heat_flux", 3, 6), ("gradient", 3, 6), ("material", 1, 2)])
+        owned(&[
+            ("heat_flux_w_per_m2", 3, 6),
+            ("gradient_k_per_m", 3, 6),
+            ("material", 1, 2)
+        ])
     );
     assert_eq!(point[0].data, IOBuffer::F64(res.temperature.clone()));
     assert_eq!(point[1].data, IOBuffer::F64([10.0, 1e-20, 0.0].repeat(4)));
@@ -320,31 +324,56 @@ fn float_format_round_trips() {
     }
 }
 
+fn tiny_checks() -> Vec<Check> {
+    vec![Check {
+        name: "energy_balance".into(),
+        value: 5.0e-17,
+        tolerance: 1e-9,
+        passed: true,
+        severity: crate::run::Severity::Error,
+        detail: "balanced".into(),
+    }]
+}
+
+fn tiny_estimate() -> ErrorEstimate {
+    ErrorEstimate {
+        indicator: vec![0.1, 0.2],
+        energy_norm: 0.25,
+        solution_energy_norm: 10.0,
+        relative: 0.025,
+    }
+}
+
 #[test]
 fn summary_has_keys_in_order() {
     let (mesh, res) = (tiny_mesh(), tiny_results());
     let section = tiny_section(&mesh);
     let warnings = vec!["segment 1 of outline has no boundary name".to_string()];
-    let (checks, model, run) = (
-        json!({"energy_balance": {"pass": true}}),
+    let (checks, estimate, model) = (
+        tiny_checks(),
+        tiny_estimate(),
         json!({"title": "Two triangles"}),
-        json!({"seconds": 0.25}),
     );
+    let timings = Timings {
+        mesh_s: 0.25,
+        ..Timings::default()
+    };
     let inputs = SummaryInputs {
         section: &section,
         mesh: &mesh,
         results: &res,
         warnings: &warnings,
         checks: &checks,
+        error_estimate: &estimate,
+        adaptivity: &[],
+        timings: &timings,
         model: &model,
-        run: &run,
-        extra: &[("error_estimate", json!({"relative": 0.01}))],
     };
     let bytes = summary_json(&inputs).unwrap();
     assert!(bytes.ends_with(b"}\n"));
     assert_eq!(bytes, summary_json(&inputs).unwrap());
     let v: Value = serde_json::from_slice(&bytes).unwrap();
-    for key in [
+    let keys = [
         "schema",
         "version",
         "title",
@@ -354,6 +383,7 @@ fn summary_has_keys_in_order() {
         "triangles",
         "min_angle_deg",
         "max_triangle_area_m2",
+        "section_area_m2",
         "materials",
         "temperature",
         "heat_flow_w_per_m",
@@ -363,30 +393,55 @@ fn summary_has_keys_in_order() {
         "energy_imbalance_relative",
         "probes",
         "lines",
+        "error_estimate",
         "warnings",
         "checks",
         "model",
         "run",
-    ] {
-        assert!(v.get(key).is_some(), "missing {key}");
-    }
-    assert_eq!(v["schema"], json!(1));
+    ];
+    let text = String::from_utf8(bytes).unwrap();
+    let top: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    assert_eq!(top.len(), keys.len(), "{top:?}");
+    let at: Vec<usize> = keys
+        .iter()
+        .map(|k| text.find(&format!("\n  \"{k}\":")).expect(k))
+        .collect();
+    assert!(at.windows(2).all(|w| w[0] < w[1]), "key order {keys:?}");
+    assert!(
+        v.get("adaptivity").is_none(),
+        "no adaptivity without cycles"
+    );
+    assert_eq!(v["schema"], json!("xsheat.summary/2"));
     assert_eq!(v["version"], json!(crate::VERSION));
     assert_eq!(v["caution"], json!(CAUTION));
-    assert_eq!(v["units"]["film_coefficient"], json!("W/(m²·K)"));
+    assert_eq!(v["units"]["_w_per_m2_k"], json!("W/(m²·K)"));
     assert_eq!(
-        v["units"]["heat_flow"],
+        v["units"]["_w_per_m"],
         json!("W/m (per metre of section depth)")
     );
     assert_eq!(v["materials"][1]["name"], json!("steel"));
-    assert_eq!(v["temperature"]["max_at"], json!([0.0, 0.0]));
-    assert_eq!(v["boundaries"][0]["condition"]["temperature"], json!(20.0));
+    assert_eq!(v["materials"][1]["conductivity_w_per_m_k"], json!(50.0));
+    assert_eq!(v["temperature"]["max_at_m"], json!([0.0, 0.0]));
+    assert_eq!(v["temperature"]["min_c"], json!(0.0));
+    assert_eq!(v["boundaries"][0]["condition"]["kind"], json!("fixed"));
+    assert_eq!(
+        v["boundaries"][0]["condition"]["temperature_c"],
+        json!(20.0)
+    );
     assert_eq!(v["boundaries"][2]["condition"], Value::Null);
     assert_eq!(v["lines"][0]["samples"], json!(2));
     assert_eq!(v["lines"][0]["skipped"][0]["index"], json!(2));
-    assert_eq!(v["probes"][0]["temperature"], json!(10.0));
+    assert_eq!(v["lines"][0]["skipped"][0]["x_m"], json!(3.0));
+    assert_eq!(v["probes"][0]["temperature_c"], json!(10.0));
+    assert_eq!(v["error_estimate"]["method"], json!("Zienkiewicz–Zhu"));
+    assert_eq!(v["error_estimate"]["relative"], json!(0.025));
+    assert_eq!(
+        v["error_estimate"]["energy_norm_sqrt_w_k_per_m"],
+        json!(0.25)
+    );
+    assert_eq!(v["checks"][0]["name"], json!("energy_balance"));
+    assert_eq!(v["run"]["timings"]["mesh_s"], json!(0.25));
     // Result order is kept in the text (a Value object would sort the keys).
-    let text = String::from_utf8(bytes).unwrap();
     let flows = &text[text.find("\"heat_flow_w_per_m\": {").unwrap()..];
     let (w, c, u) = (
         flows.find("\"warm\"").unwrap(),
@@ -394,7 +449,41 @@ fn summary_has_keys_in_order() {
         flows.find("\"(unnamed)\"").unwrap(),
     );
     assert!(w < c && c < u);
-    assert!(text.find("\"schema\"").unwrap() < text.find("\"run\"").unwrap());
+}
+
+#[test]
+fn summary_lists_adaptive_cycles() {
+    let (mesh, res) = (tiny_mesh(), tiny_results());
+    let section = tiny_section(&mesh);
+    let (checks, estimate) = (tiny_checks(), tiny_estimate());
+    let cycles = [Cycle {
+        cycle: 0,
+        triangles: 2,
+        nodes: 4,
+        relative_error: 0.5,
+        energy_norm_error: 0.75,
+    }];
+    let bytes = summary_json(&SummaryInputs {
+        section: &section,
+        mesh: &mesh,
+        results: &res,
+        warnings: &[],
+        checks: &checks,
+        error_estimate: &estimate,
+        adaptivity: &cycles,
+        timings: &Timings::default(),
+        model: &Value::Null,
+    })
+    .unwrap();
+    let v: Value = serde_json::from_slice(&bytes).unwrap();
+    assert_eq!(v["adaptivity"][0]["relative"], json!(0.5));
+    assert_eq!(
+        v["adaptivity"][0]["energy_norm_sqrt_w_k_per_m"],
+        json!(0.75)
+    );
+    let text = String::from_utf8(bytes).unwrap();
+    assert!(text.find("\"error_estimate\"").unwrap() < text.find("\"adaptivity\"").unwrap());
+    assert!(text.find("\"adaptivity\"").unwrap() < text.find("\"warnings\"").unwrap());
 }
 
 #[test]
@@ -459,23 +548,19 @@ fn output_set_failure_leaves_no_new_file() {
     assert!(e.message().contains("b.csv"), "{e}");
     assert_eq!(dir_listing(&dir), ["b.csv"]);
 
-    // A temporary cannot be created for the second file: the first is cleaned up.
+    // A temporary cannot be created for the second file (its name, `.NAME.XXXXXX.tmp`, is
+    // longer than the 255 bytes a file name may have, while NAME itself is not): the first
+    // file's temporary is cleaned up and nothing is created.
     let dir2 = root.join("out2");
     fs::create_dir_all(&dir2).unwrap();
-    let serial = COMMIT_COUNTER.load(Ordering::Relaxed);
-    let blockers: Vec<String> = (serial..serial + 64)
-        .map(|s| format!(".b.csv.tmp-{}-{s}", std::process::id()))
-        .collect();
-    for b in &blockers {
-        fs::create_dir(dir2.join(b)).unwrap();
-    }
-    let e = set.commit(&dir2).unwrap_err();
-    assert!(e.message().contains("b.csv"), "{e}");
-    let left: Vec<String> = dir_listing(&dir2)
-        .into_iter()
-        .filter(|n| !blockers.contains(n))
-        .collect();
-    assert!(left.is_empty(), "left behind: {left:?}");
+    let long = "b".repeat(250);
+    let mut set2 = OutputSet::new();
+    set2.add("a.csv", b"a".to_vec());
+    set2.add(long.clone(), b"b".to_vec());
+    let e = set2.commit(&dir2).unwrap_err();
+    assert!(e.message().contains(&long), "{e}");
+    assert!(e.message().contains("no output file was changed"), "{e}");
+    assert!(dir_listing(&dir2).is_empty(), "{:?}", dir_listing(&dir2));
 
     // Bad names are refused before anything is written.
     for bad in ["", "..", "sub/x.csv"] {

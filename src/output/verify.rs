@@ -1,8 +1,10 @@
 //! Files of the verification suite: verify.csv and verify.json.
 
-use crate::error::{Error, Result};
+use super::json::json_bytes;
+use crate::error::Result;
 use crate::output::{self, OutputSet};
-use crate::study::verify::{ErrorMeasure, VerifySuite};
+use crate::study::verify::{ErrorMeasure, VerifyCase, VerifySuite};
+use serde::Serialize;
 
 /// `verify.csv`: `case,quantity,unit,source,reference,computed,error,tolerance,error_measure,
 /// triangles,passed` (reference, computed in `unit`; error and tolerance relative or in `unit`
@@ -42,18 +44,27 @@ pub fn verify_csv(suite: &VerifySuite) -> Result<Vec<u8>> {
     output::csv_bytes(header, rows)
 }
 
-/// `verify.json`: schema, version, overall result and every case.
+/// Schema of verify.json.
+pub const VERIFY_SCHEMA: &str = "xsheat.verify/1";
+
+#[derive(Serialize)]
+struct VerifyOut<'a> {
+    schema: &'static str,
+    version: &'static str,
+    all_passed: bool,
+    cases: &'a [VerifyCase],
+}
+
+/// `verify.json`: schema, version, overall result and every case (reference, computed and,
+/// for absolute measures, error and tolerance in the case's `unit`).
 pub fn verify_json(suite: &VerifySuite) -> Result<Vec<u8>> {
-    let v = serde_json::json!({
-        "schema": "xsheat.verify/1",
-        "version": crate::VERSION,
-        "all_passed": suite.all_passed(),
-        "cases": suite.cases,
-    });
-    let mut s = serde_json::to_string_pretty(&v)
-        .map_err(|e| Error::run(format!("cannot encode verify.json: {e}")))?;
-    s.push('\n');
-    Ok(s.into_bytes())
+    let out = VerifyOut {
+        schema: VERIFY_SCHEMA,
+        version: crate::VERSION,
+        all_passed: suite.all_passed(),
+        cases: &suite.cases,
+    };
+    json_bytes(&out, "verify.json")
 }
 
 /// Both files of the suite, ready to be committed atomically.

@@ -123,15 +123,16 @@ pub fn encode_vtu(title: &str, piece: UnstructuredGridPiece) -> Result<Vec<u8>> 
 
 /// The solved field as a VTK XML unstructured grid (`.vtu`).
 ///
-/// Points (x, y, 0) m; triangle cells. Point data: `temperature` (°C), `heat_flux_nodal`
-/// (W/m²) and `gradient_nodal` (K/m), vectors with z = 0. Cell data: `heat_flux` (W/m²),
-/// `gradient` (K/m), vectors with z = 0, and `material` (Int32 id).
+/// Points (x, y, 0) m; triangle cells. Point data: `temperature_c` (°C),
+/// `heat_flux_nodal_w_per_m2` (W/m²) and `gradient_nodal_k_per_m` (K/m), vectors with z = 0.
+/// Cell data: `heat_flux_w_per_m2` (W/m²), `gradient_k_per_m` (K/m), vectors with z = 0, and
+/// `material` (Int32 id).
 pub fn field_vtu(mesh: &Mesh, results: &Results) -> Result<Vec<u8>> {
     field_vtu_with(mesh, results, &[])
 }
 
 /// [`field_vtu`] with further scalar cell arrays (name, one value per triangle), e.g. the
-/// `error_indicator` of the error estimate.
+/// `error_indicator` of the Zienkiewicz–Zhu estimate ((W·K/m)^½ per triangle).
 pub fn field_vtu_with(
     mesh: &Mesh,
     results: &Results,
@@ -150,13 +151,13 @@ pub fn field_vtu_with(
     }
     let mut data = Attributes {
         point: vec![
-            Attribute::scalars("temperature", 1).with_data(results.temperature.clone()),
-            Attribute::vectors("heat_flux_nodal").with_data(vec3(&results.nodal_flux)),
-            Attribute::vectors("gradient_nodal").with_data(vec3(&results.nodal_gradient)),
+            Attribute::scalars("temperature_c", 1).with_data(results.temperature.clone()),
+            Attribute::vectors("heat_flux_nodal_w_per_m2").with_data(vec3(&results.nodal_flux)),
+            Attribute::vectors("gradient_nodal_k_per_m").with_data(vec3(&results.nodal_gradient)),
         ],
         cell: vec![
-            Attribute::vectors("heat_flux").with_data(vec3(&results.cell_flux)),
-            Attribute::vectors("gradient").with_data(vec3(&results.cell_gradient)),
+            Attribute::vectors("heat_flux_w_per_m2").with_data(vec3(&results.cell_flux)),
+            Attribute::vectors("gradient_k_per_m").with_data(vec3(&results.cell_gradient)),
             Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
         ],
     };

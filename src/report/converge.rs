@@ -1,69 +1,74 @@
-//! The console table of a convergence study.
+//! Console text of `xsheat converge`: the levels, every quantity with its GCI result, the
+//! circles and the notes of a convergence study.
 
+use super::{fixed, push_table, sci, sig3, table};
+use crate::output::ERROR_ESTIMATE_METHOD;
 use crate::study::converge::ConvergenceStudy;
+use std::fmt::Write;
 
-fn short(x: Option<f64>, digits: usize) -> String {
-    match x {
-        Some(v) => format!("{v:.digits$}"),
-        None => "-".to_string(),
-    }
+fn or_dash(x: Option<f64>, f: impl Fn(f64) -> String) -> String {
+    x.map_or_else(|| "-".to_string(), f)
 }
 
-/// The table `xsheat converge` prints.
-pub fn convergence_report(study: &ConvergenceStudy) -> String {
-    use std::fmt::Write;
-    let mut s = String::new();
-    let _ = writeln!(s, "convergence study: {}", study.title);
-    let _ = writeln!(
-        s,
-        "{:>5} {:>12} {:>10} {:>10} {:>12} {:>12}",
-        "level", "max_area_m2", "triangles", "nodes", "h_m", "zz_rel_err"
+fn levels_table(o: &mut String, study: &ConvergenceStudy) {
+    let estimate = format!("{ERROR_ESTIMATE_METHOD} estimate");
+    let mut t = table(
+        &[
+            "level",
+            "max_area m²",
+            "triangles",
+            "nodes",
+            "h m",
+            &estimate,
+        ],
+        "rrrrrr",
     );
     for l in &study.levels {
-        let _ = writeln!(
-            s,
-            "{:>5} {:>12.4e} {:>10} {:>10} {:>12.4e} {:>12.3e}",
-            l.level, l.max_area, l.triangles, l.nodes, l.h, l.error_estimate.relative
-        );
+        t.add_row(vec![
+            l.level.to_string(),
+            sci(l.max_area, 4),
+            l.triangles.to_string(),
+            l.nodes.to_string(),
+            sci(l.h, 4),
+            sig3(l.error_estimate.relative),
+        ]);
     }
-    let _ = writeln!(s);
-    let name_w = study
-        .quantities
-        .iter()
-        .map(|q| q.quantity.chars().count())
-        .max()
-        .unwrap_or(8)
-        .max(8);
-    let _ = write!(s, "{:<name_w$} {:<5}", "quantity", "unit");
-    for l in &study.levels {
-        let _ = write!(s, " {:>14}", format!("level {}", l.level));
-    }
-    let _ = writeln!(
-        s,
-        " {:>7} {:>14} {:>11} {:>8} status",
-        "order", "extrapolated", "gci_fine", "gci_%"
-    );
+    push_table(o, &t, 0);
+}
+
+fn quantities_table(o: &mut String, study: &ConvergenceStudy) {
+    let mut header: Vec<String> = vec!["quantity".into(), "unit".into()];
+    header.extend(study.levels.iter().map(|l| format!("level {}", l.level)));
+    header.extend(["order", "extrapolated", "gci_fine", "gci %", "status"].map(String::from));
+    let names: Vec<&str> = header.iter().map(String::as_str).collect();
+    let align = format!("ll{}rrrrl", "r".repeat(study.levels.len()));
+    let mut t = table(&names, &align);
     for q in &study.quantities {
-        let _ = write!(s, "{:<name_w$} {:<5}", q.quantity, q.unit);
-        for v in &q.values {
-            let _ = write!(s, " {v:>14.8}");
-        }
-        let _ = writeln!(
-            s,
-            " {:>7} {:>14} {:>11} {:>8} {}",
-            short(q.gci.observed_order, 3),
-            short(q.gci.extrapolated, 8),
-            q.gci.gci_fine.map_or("-".into(), |v| format!("{v:.3e}")),
-            short(q.gci.gci_fine_percent, 4),
-            q.gci.status.as_str()
-        );
+        let mut row = vec![q.quantity.clone(), q.unit.clone()];
+        row.extend(q.values.iter().map(|&v| fixed(v, 8)));
+        row.push(or_dash(q.gci.observed_order, |v| fixed(v, 3)));
+        row.push(or_dash(q.gci.extrapolated, |v| fixed(v, 8)));
+        row.push(or_dash(q.gci.gci_fine, |v| sci(v, 3)));
+        row.push(or_dash(q.gci.gci_fine_percent, |v| fixed(v, 4)));
+        row.push(q.gci.status.as_str().to_string());
+        t.add_row(row);
     }
+    push_table(o, &t, 0);
+}
+
+/// The tables `xsheat converge` prints (results only; the caller prints the caution).
+pub fn convergence_report(study: &ConvergenceStudy) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "convergence study: {}", study.title);
+    levels_table(&mut o, study);
+    let _ = writeln!(o);
+    quantities_table(&mut o, study);
     if !study.circles.is_empty() {
-        let _ = writeln!(s);
+        let _ = writeln!(o);
         for c in &study.circles {
             let _ = writeln!(
-                s,
-                "circle {}: r = {} m, {} segments at every level{}, sagitta {:.3e} m",
+                o,
+                "circle {}: r = {} m, {} segments at every level{}, sagitta {} m",
                 c.ring,
                 c.radius,
                 c.segments,
@@ -72,14 +77,15 @@ pub fn convergence_report(study: &ConvergenceStudy) -> String {
                 } else {
                     " (the finest level's)"
                 },
-                c.sagitta
+                sci(c.sagitta, 3)
             );
         }
     }
-    let _ = writeln!(s);
-    for n in &study.notes {
-        let _ = writeln!(s, "note: {n}");
+    if !study.notes.is_empty() {
+        let _ = writeln!(o);
     }
-    let _ = writeln!(s, "{}", crate::CAUTION);
-    s
+    for n in &study.notes {
+        let _ = writeln!(o, "note: {n}");
+    }
+    o
 }

@@ -1,22 +1,24 @@
-//! Console text of the grid cross-checks.
+//! Console text of the grid cross-checks: `xsheat gridcheck` (grid model against the element
+//! model) and `xsheat compare` (a user's own results against the element model).
 
+use super::{fixed, push_table, sci, signed, table};
 use crate::study::crosscheck::*;
 use std::fmt::Write as _;
 
 fn element_line(e: &ElementMeshInfo) -> String {
     format!(
-        "element model: {} nodes, {} triangles; max_area {:.4e} m² ({}), largest triangle {:.4e} m² \
-         (edge ≈ {:.4e} m)",
+        "element model: {} nodes, {} triangles; max_area {} m² ({}), largest triangle {} m² \
+         (edge ≈ {} m)",
         e.nodes,
         e.triangles,
-        e.max_area_setting,
+        sci(e.max_area_setting, 4),
         if e.overridden {
             "--fe-max-area"
         } else {
             "the model's mesh settings"
         },
-        e.largest_triangle,
-        e.edge
+        sci(e.largest_triangle, 4),
+        sci(e.edge, 4)
     )
 }
 
@@ -24,67 +26,114 @@ fn stats_lines(o: &mut String, what: &str, s: &DiffStats) {
     let _ = writeln!(o, "temperature difference {what} over {} points:", s.count);
     let _ = writeln!(
         o,
-        "  max |diff| = {:.4e} K at ({}, {})",
-        s.max_abs, s.max_at[0], s.max_at[1]
+        "  max |diff| = {} K at ({}, {})",
+        sci(s.max_abs, 4),
+        s.max_at[0],
+        s.max_at[1]
     );
-    let _ = writeln!(o, "  RMS diff   = {:.4e} K", s.rms);
-    let _ = writeln!(o, "  mean diff  = {:.4e} K", s.mean);
+    let _ = writeln!(o, "  RMS diff   = {} K", sci(s.rms, 4));
+    let _ = writeln!(o, "  mean diff  = {} K", sci(s.mean, 4));
 }
 
+/// A relative difference as a signed percentage (`+0.1234 %`), `-` when not defined.
 fn pct(r: Option<f64>) -> String {
-    r.map_or("-".to_string(), |r| format!("{:+.4}%", 100.0 * r))
+    r.map_or("-".to_string(), |r| format!("{} %", signed(100.0 * r, 4)))
 }
 
-/// The text `gridcheck` prints.
+fn coarse_reference_note(o: &mut String, check: &GridCheck, fin: &GridLevel) {
+    if check.element.edge > fin.spacing / FINE_RATIO {
+        let suggest = 3f64.sqrt() / 4.0 * (fin.spacing / (2.0 * FINE_RATIO)).powi(2);
+        let _ = writeln!(
+            o,
+            "note: the element mesh (edge ≈ {} m) is not much finer than the grid (h = {} m): \
+             the difference includes the element model's own error; a finer reference: \
+             --fe-max-area {}",
+            sci(check.element.edge, 3),
+            fin.spacing,
+            sci(suggest, 3)
+        );
+    }
+}
+
+fn levels_tables(o: &mut String, check: &GridCheck) {
+    let _ = writeln!(o, "difference grid − element against spacing:");
+    let mut t = table(
+        &[
+            "h m",
+            "nodes",
+            "max |diff| K",
+            "order",
+            "RMS diff K",
+            "order",
+        ],
+        "rrrrrr",
+    );
+    let ord = |v: Option<f64>| v.map_or("-".to_string(), |v| fixed(v, 3));
+    for l in &check.levels {
+        t.add_row(vec![
+            l.spacing.to_string(),
+            l.grid_nodes.to_string(),
+            sci(l.stats.max_abs, 4),
+            ord(l.order_max),
+            sci(l.stats.rms, 4),
+            ord(l.order_rms),
+        ]);
+    }
+    push_table(o, &t, 1);
+    let _ = writeln!(
+        o,
+        "heat-flow difference grid − element per boundary (W/m; relative to the element flow):"
+    );
+    for l in &check.levels {
+        let cells: Vec<String> = l
+            .flows
+            .iter()
+            .map(|f| format!("{} {} ({})", f.name, sci(f.diff, 4), pct(f.relative)))
+            .collect();
+        let _ = writeln!(o, "  h = {} m: {}", l.spacing, cells.join(", "));
+    }
+    let _ = writeln!(o, "finest spacing:");
+}
+
+fn flows_table(o: &mut String, fin: &GridLevel) {
+    let _ = writeln!(
+        o,
+        "heat flow per boundary (W/m, positive into the section):"
+    );
+    let mut t = table(
+        &[
+            "boundary",
+            "kind",
+            "grid",
+            "element",
+            "grid − element",
+            "relative",
+        ],
+        "llrrrr",
+    );
+    for f in &fin.flows {
+        t.add_row(vec![
+            f.name.clone(),
+            f.kind.clone(),
+            fixed(f.grid, 6),
+            fixed(f.fe, 6),
+            sci(f.diff, 4),
+            pct(f.relative),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
+/// The text `xsheat gridcheck` prints.
 pub fn gridcheck_report(check: &GridCheck) -> String {
     let mut o = String::new();
     let Some(fin) = check.levels.last() else {
         return o;
     };
     let _ = writeln!(o, "{}", element_line(&check.element));
-    if check.element.edge > fin.spacing / FINE_RATIO {
-        let suggest = 3f64.sqrt() / 4.0 * (fin.spacing / (2.0 * FINE_RATIO)).powi(2);
-        let _ = writeln!(
-            o,
-            "note: the element mesh (edge ≈ {:.3e} m) is not much finer than the grid (h = {} m): \
-             the difference includes the element model's own error; a finer reference: \
-             --fe-max-area {:.3e}",
-            check.element.edge, fin.spacing, suggest
-        );
-    }
+    coarse_reference_note(&mut o, check, fin);
     if check.levels.len() > 1 {
-        let _ = writeln!(o, "difference grid − element against spacing:");
-        let _ = writeln!(
-            o,
-            "  {:>12} {:>9} {:>14} {:>7} {:>14} {:>7}",
-            "h (m)", "nodes", "max|diff| (K)", "order", "RMS diff (K)", "order"
-        );
-        let ord = |v: Option<f64>| v.map_or("-".to_string(), |v| format!("{v:.3}"));
-        for l in &check.levels {
-            let _ = writeln!(
-                o,
-                "  {:>12} {:>9} {:>14.4e} {:>7} {:>14.4e} {:>7}",
-                l.spacing,
-                l.grid_nodes,
-                l.stats.max_abs,
-                ord(l.order_max),
-                l.stats.rms,
-                ord(l.order_rms)
-            );
-        }
-        let _ = writeln!(
-            o,
-            "heat-flow difference grid − element per boundary (W/m; relative to the element flow):"
-        );
-        for l in &check.levels {
-            let cells: Vec<String> = l
-                .flows
-                .iter()
-                .map(|f| format!("{} {:+.4e} ({})", f.name, f.diff, pct(f.relative)))
-                .collect();
-            let _ = writeln!(o, "  h = {} m: {}", l.spacing, cells.join(", "));
-        }
-        let _ = writeln!(o, "finest spacing:");
+        levels_tables(&mut o, check);
     }
     let _ = writeln!(
         o,
@@ -92,31 +141,11 @@ pub fn gridcheck_report(check: &GridCheck) -> String {
         fin.spacing, fin.grid_nodes, fin.shortley_weller_nodes
     );
     stats_lines(&mut o, "grid − element", &fin.stats);
-    let _ = writeln!(
-        o,
-        "heat flow per boundary (W/m, positive into the section):"
-    );
-    let _ = writeln!(
-        o,
-        "  {:<16} {:<11} {:>14} {:>14} {:>14} {:>11}",
-        "boundary", "kind", "grid", "element", "grid−element", "relative"
-    );
-    for f in &fin.flows {
-        let _ = writeln!(
-            o,
-            "  {:<16} {:<11} {:>14.6} {:>14.6} {:>14.4e} {:>11}",
-            f.name,
-            f.kind,
-            f.grid,
-            f.fe,
-            f.diff,
-            pct(f.relative)
-        );
-    }
+    flows_table(&mut o, fin);
     o
 }
 
-/// The text `compare` prints.
+/// The text `xsheat compare` prints.
 pub fn compare_report(c: &Comparison) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "{}", element_line(&c.element));
@@ -142,8 +171,11 @@ pub fn compare_report(c: &Comparison) -> String {
         for p in c.outside.iter().take(OUTSIDE_LISTED) {
             let _ = writeln!(
                 o,
-                "  line {}: ({}, {}), {:.4e} m outside",
-                p.line, p.x, p.y, p.distance
+                "  line {}: ({}, {}), {} m outside",
+                p.line,
+                p.x,
+                p.y,
+                sci(p.distance, 4)
             );
         }
         if c.outside.len() > OUTSIDE_LISTED {

@@ -1,186 +1,29 @@
-//! Text reports printed by the command-line tool: what a model holds (`check`), mesh quality
-//! (`mesh`) and the solve summary table with the engineering caution (`solve`).
+//! Console text of the command-line tool: every line a command prints as its result.
+//!
+//! One file per command: [`check`](check_report) and [`mesh`](mesh_report) in `check.rs`,
+//! [`solve`](solve_report) in `solve.rs`, [`converge`](convergence_report) in `converge.rs`,
+//! [`gridcheck`](gridcheck_report) and [`compare`](compare_report) in `crosscheck.rs`,
+//! [`verify`](verify_report) in `verify.rs`. The functions return the results only; the
+//! engineering caution ([`crate::CAUTION`]) is printed by the caller, and warnings come from
+//! [`warnings_report`]. Tables are laid out by `comfy-table`; numbers go through the helpers
+//! here, which never print a negative zero (`-0.0000`).
 
-use crate::CAUTION;
-use crate::mesh::{self, Mesh};
-use crate::model::{BoundaryKind, Ring, Section};
-use crate::run::{CheckStatus, Prepared, Solved};
+use comfy_table::{CellAlignment, Table, presets};
 use std::fmt::Write;
 
-fn ring_line(r: &Ring) -> String {
-    match &r.circle {
-        Some(c) => format!(
-            "circle centre ({}, {}) radius {} m as {} segments (sagitta {:.3e} m)",
-            c.center[0],
-            c.center[1],
-            c.radius,
-            c.segments,
-            c.sagitta()
-        ),
-        None => format!("polygon of {} points", r.len()),
-    }
-}
+mod check;
+mod converge;
+mod crosscheck;
+mod solve;
+mod verify;
 
-fn kind_line(k: &BoundaryKind) -> String {
-    match k {
-        BoundaryKind::Fixed { temperature } => format!("fixed, T = {temperature} °C"),
-        BoundaryKind::Insulated => "insulated".to_string(),
-        BoundaryKind::Flux { flux } => format!("flux, q = {flux} W/m² (into the section)"),
-        BoundaryKind::Convection { h, ambient } => {
-            format!("convection, h = {h} W/(m²·K), ambient {ambient} °C")
-        }
-    }
-}
+pub use check::*;
+pub use converge::*;
+pub use crosscheck::*;
+pub use solve::*;
+pub use verify::*;
 
-fn seg_len(r: &Ring, i: usize) -> f64 {
-    let (a, b) = r.segment(i);
-    ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt()
-}
-
-/// What a validated model holds.
-pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
-    let s = &p.section;
-    let mut o = String::new();
-    let _ = writeln!(o, "model: {}", s.title);
-    let area = mesh::section_area(s);
-    let _ = writeln!(
-        o,
-        "section: area {area:.6} m², bounding-box diagonal {:.6} m",
-        s.diameter()
-    );
-    let _ = writeln!(
-        o,
-        "mesh settings: max_area {:.6e} m²{}, min_angle {}°, about {:.0} triangles expected",
-        s.mesh.max_area,
-        if s.mesh.max_area_is_default {
-            " (default: section area / 4000)"
-        } else {
-            ""
-        },
-        s.mesh.min_angle,
-        mesh::estimate_triangles(area, s.mesh.max_area)
-    );
-    let _ = writeln!(
-        o,
-        "materials (id, name, conductivity W/(m·K), heat source W/m³):"
-    );
-    for m in &s.materials {
-        let _ = writeln!(
-            o,
-            "  {:>3}  {:<20} {:>10}  {}",
-            m.id, m.name, m.conductivity, m.heat_source
-        );
-    }
-    let _ = writeln!(
-        o,
-        "outline: {} ({}), material {}",
-        ring_line(&s.outline),
-        s.outline.label,
-        s.materials[s.outline_material].name
-    );
-    for r in &s.regions {
-        let _ = writeln!(
-            o,
-            "{}: {}, material {}",
-            r.ring.label,
-            ring_line(&r.ring),
-            s.materials[r.material].name
-        );
-    }
-    for h in &s.holes {
-        let _ = writeln!(o, "{}: {}", h.label, ring_line(h));
-    }
-    let _ = writeln!(
-        o,
-        "boundaries (name, condition, length on the rings as written):"
-    );
-    for (id, b) in s.boundaries.iter().enumerate() {
-        let len: f64 = std::iter::once(&s.outline)
-            .chain(s.holes.iter())
-            .map(|r| {
-                (0..r.len())
-                    .filter(|&i| r.edge_boundary[i] == Some(id))
-                    .map(|i| seg_len(r, i))
-                    .sum::<f64>()
-            })
-            .sum();
-        let _ = writeln!(o, "  {:<20} {:<55} {len:.6} m", b.name, kind_line(&b.kind));
-    }
-    for pr in &s.probes {
-        let _ = writeln!(o, "probe {}: ({}, {})", pr.name, pr.at[0], pr.at[1]);
-    }
-    for l in &s.lines {
-        let _ = writeln!(
-            o,
-            "line {}: ({}, {}) → ({}, {}), {} samples",
-            l.name, l.from[0], l.from[1], l.to[0], l.to[1], l.samples
-        );
-    }
-    let _ = writeln!(
-        o,
-        "segment set: {} vertices, {} constraint segments; unrefined triangulation has {} triangles",
-        p.pslg.vertices.len(),
-        p.pslg.pieces.len(),
-        mesh.stats.triangles
-    );
-    o
-}
-
-/// Mesh counts and quality.
-pub fn mesh_report(s: &Section, m: &Mesh) -> String {
-    let st = &m.stats;
-    let mut o = String::new();
-    let _ = writeln!(
-        o,
-        "mesh: {} nodes, {} triangles, {} boundary edges",
-        st.nodes, st.triangles, st.boundary_edges
-    );
-    let _ = writeln!(
-        o,
-        "min angle {:.3}° (limit {}°), worst triangle {} at ({:.6}, {:.6})",
-        st.min_angle_deg,
-        s.mesh.min_angle,
-        st.worst_triangle,
-        st.worst_triangle_centroid[0],
-        st.worst_triangle_centroid[1]
-    );
-    let _ = writeln!(
-        o,
-        "triangle area {:.6e} .. {:.6e} m² (limit {:.6e} m²{}), meshed area {:.6} m²",
-        st.min_area,
-        st.max_area,
-        s.mesh.max_area,
-        if s.mesh.max_area_is_default {
-            ", default"
-        } else {
-            ""
-        },
-        st.area
-    );
-    if !st.small_input_angles.is_empty() {
-        let _ = writeln!(
-            o,
-            "input angles below {}° (2 × min_angle; the angle limit may not hold next to them): {}",
-            crate::mesh::SMALL_INPUT_ANGLE_FACTOR * s.mesh.min_angle,
-            st.small_input_angles.len()
-        );
-        for a in &st.small_input_angles {
-            let _ = writeln!(
-                o,
-                "  {:.3}° at ({:.6}, {:.6}), triangles within {:.4e} m count as next to it",
-                a.angle_deg, a.at[0], a.at[1], a.radius
-            );
-        }
-        let _ = writeln!(
-            o,
-            "min angle away from them {:.3}°",
-            st.min_angle_away_from_small_input_angles_deg
-        );
-    }
-    o
-}
-
-/// Warnings block.
+/// Warnings block: `warnings:` and one `  - …` line each (empty when there are none).
 pub fn warnings_report(w: &[String]) -> String {
     let mut o = String::new();
     if !w.is_empty() {
@@ -192,123 +35,115 @@ pub fn warnings_report(w: &[String]) -> String {
     o
 }
 
-/// The solve summary table.
-pub fn solve_report(sv: &Solved) -> String {
-    let s = sv.section();
-    let r = &sv.results;
-    let mut o = String::new();
-    let _ = writeln!(o, "xsheat {} — {}", crate::VERSION, s.title);
-    o.push_str(&mesh_report(s, &sv.mesh));
-    let _ = writeln!(
-        o,
-        "temperature: min {:.4} °C at ({:.6}, {:.6}), max {:.4} °C at ({:.6}, {:.6})",
-        r.t_min.value, r.t_min.at[0], r.t_min.at[1], r.t_max.value, r.t_max.at[0], r.t_max.at[1]
-    );
-    let _ = writeln!(
-        o,
-        "heat flow per boundary (W per metre of depth, positive into the section):"
-    );
-    let _ = writeln!(
-        o,
-        "  {:<20} {:<11} {:>12} {:>16} {:>10} {:>10} {:>10}",
-        "boundary", "kind", "length_m", "heat_flow_w_per_m", "mean_c", "min_c", "max_c"
-    );
-    for b in &r.boundaries {
-        let _ = writeln!(
-            o,
-            "  {:<20} {:<11} {:>12.6} {:>16.6} {:>10.4} {:>10.4} {:>10.4}",
-            b.name,
-            b.kind,
-            b.length,
-            b.heat_flow,
-            b.mean_temperature,
-            b.min_temperature,
-            b.max_temperature
-        );
+/// Drops the sign of a formatted number whose digits are all zero (`-0.000` → `0.000`,
+/// `-0.0e0` → `0.0e0`, `+0.00` → `0.00`).
+fn unsigned_zero(s: String) -> String {
+    let mantissa = s.split(['e', 'E']).next().unwrap_or("");
+    let all_zero = !mantissa.chars().any(|c| c.is_ascii_digit() && c != '0');
+    match s.strip_prefix(['-', '+']) {
+        Some(rest) if all_zero => rest.to_string(),
+        _ => s,
     }
-    let _ = writeln!(
-        o,
-        "  {:<20} {:<11} {:>12} {:>16.6}",
-        "heat source", "", "", r.heat_source
-    );
-    let _ = writeln!(
-        o,
-        "  energy imbalance {:.3e} W/m (relative {:.3e})",
-        r.energy_imbalance, r.energy_imbalance_relative
-    );
-    if !r.probes.is_empty() {
-        let _ = writeln!(o, "probes:");
-        for p in &r.probes {
-            let _ = writeln!(
-                o,
-                "  {:<20} ({:.6}, {:.6}) {:>12.6} °C{}",
-                p.name,
-                p.x,
-                p.y,
-                p.temperature,
-                if p.snapped {
-                    "  (taken at the nearest boundary point)"
-                } else {
-                    ""
-                }
-            );
-        }
-    }
-    for l in &r.lines {
-        let _ = writeln!(
-            o,
-            "line {}: {} samples inside, {} skipped",
-            l.name,
-            l.samples.len(),
-            l.skipped.len()
-        );
-    }
-    let e = &sv.error_estimate;
-    let _ = writeln!(
-        o,
-        "error estimate (Zienkiewicz–Zhu, energy norm): {:.3e} (W·K/m)^½, relative {:.3} %",
-        e.energy_norm,
-        100.0 * e.relative
-    );
-    if !sv.adaptivity.is_empty() {
-        let _ = writeln!(o, "adaptive refinement:");
-        let _ = writeln!(
-            o,
-            "  {:>5} {:>10} {:>10} {:>16}",
-            "cycle", "triangles", "nodes", "relative_error_%"
-        );
-        for c in &sv.adaptivity {
-            let _ = writeln!(
-                o,
-                "  {:>5} {:>10} {:>10} {:>16.4}",
-                c.cycle,
-                c.triangles,
-                c.nodes,
-                100.0 * c.relative_error
-            );
-        }
-    }
-    let _ = writeln!(o, "self-checks:");
-    for c in &sv.checks {
-        let _ = writeln!(
-            o,
-            "  {:<18} {} ({})",
-            c.name,
-            match c.status() {
-                CheckStatus::Passed => "pass",
-                CheckStatus::Failed => "FAIL",
-                CheckStatus::Warning => "WARN",
-            },
-            c.detail
-        );
-    }
-    let _ = writeln!(o, "CAUTION: {CAUTION}");
-    o
 }
 
-mod converge;
-pub use converge::*;
-mod crosscheck;
-pub use crosscheck::*;
-mod verify;
-pub use verify::*;
+/// `x` with `digits` decimals.
+pub(crate) fn fixed(x: f64, digits: usize) -> String {
+    unsigned_zero(format!("{x:.digits$}"))
+}
+
+/// `x` with `digits` decimals and an explicit sign (none for zero).
+pub(crate) fn signed(x: f64, digits: usize) -> String {
+    unsigned_zero(format!("{x:+.digits$}"))
+}
+
+/// `x` in scientific notation with `digits` decimals of the mantissa (`1.234e-5`).
+pub(crate) fn sci(x: f64, digits: usize) -> String {
+    unsigned_zero(format!("{x:.digits$e}"))
+}
+
+/// A fraction with 3 significant digits: positional down to 0.001 (`0.0312`, `0.250`),
+/// scientific below (`4.17e-5`).
+pub(crate) fn sig3(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{}", x.abs());
+    }
+    let exp = x.abs().log10().floor();
+    if !(-3.0..15.0).contains(&exp) {
+        return sci(x, 2);
+    }
+    let decimals = (2.0 - exp).max(0.0) as usize;
+    fixed(x, decimals)
+}
+
+/// `(x, y)` with `digits` decimals.
+pub(crate) fn point(p: [f64; 2], digits: usize) -> String {
+    format!("({}, {})", fixed(p[0], digits), fixed(p[1], digits))
+}
+
+/// A plain table (no borders) with the given header; `align` has one letter per column,
+/// `l` left or `r` right.
+pub(crate) fn table(header: &[&str], align: &str) -> Table {
+    let mut t = Table::new();
+    t.load_preset(presets::NOTHING).set_header(header.to_vec());
+    for (i, a) in align.chars().enumerate() {
+        if let Some(c) = t.column_mut(i) {
+            c.set_cell_alignment(if a == 'r' {
+                CellAlignment::Right
+            } else {
+                CellAlignment::Left
+            });
+        }
+    }
+    t
+}
+
+/// Appends a table, each line indented by `indent` spaces, without trailing blanks.
+pub(crate) fn push_table(o: &mut String, t: &Table, indent: usize) {
+    for line in t.lines() {
+        let _ = writeln!(o, "{:indent$}{}", "", line.trim_end());
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn no_negative_zero() {
+        assert_eq!(fixed(-0.0, 4), "0.0000");
+        assert_eq!(fixed(-1e-9, 4), "0.0000");
+        assert_eq!(fixed(-1.5, 2), "-1.50");
+        assert_eq!(signed(-1e-9, 4), "0.0000");
+        assert_eq!(signed(0.25, 2), "+0.25");
+        assert_eq!(sci(-0.0, 3), "0.000e0");
+        assert_eq!(sci(-2.5e-7, 2), "-2.50e-7");
+    }
+
+    #[test]
+    fn fractions_have_three_significant_digits() {
+        assert_eq!(sig3(0.031234), "0.0312");
+        assert_eq!(sig3(0.25), "0.250");
+        assert_eq!(sig3(0.0012345), "0.00123");
+        assert_eq!(sig3(4.1666e-5), "4.17e-5");
+        assert_eq!(sig3(0.0), "0");
+        assert_eq!(sig3(1.0), "1.00");
+    }
+
+    #[test]
+    fn tables_align_columns() {
+        let mut t = table(&["name", "value"], "lr");
+        t.add_row(vec!["a", "1.5"])
+            .add_row(vec!["long name", "10.25"]);
+        let mut o = String::new();
+        push_table(&mut o, &t, 1);
+        let lines: Vec<&str> = o.lines().collect();
+        assert_eq!(lines.len(), 3, "{o}");
+        assert!(
+            lines
+                .iter()
+                .all(|l| l.starts_with("  ") && !l.ends_with(' '))
+        );
+        // Right-aligned values end in the same column.
+        assert_eq!(lines[1].len(), lines[2].len(), "{o}");
+    }
+}

@@ -1,53 +1,54 @@
-//! Console table of the verification suite.
+//! Console text of `xsheat verify`: one row per check with its case, source, reference,
+//! computed value, error, tolerance and result.
 
+use super::{push_table, sci, table};
 use crate::study::verify::{ErrorMeasure, VerifyCase, VerifySuite};
+use std::fmt::Write;
 
 fn error_text(c: &VerifyCase) -> (String, String) {
-    match c.error_measure {
-        ErrorMeasure::Relative => (
-            format!("{:.3e} rel", c.error),
-            format!("{:.1e} rel", c.tolerance),
-        ),
-        ErrorMeasure::Absolute => (
-            format!("{:.3e} {}", c.error, c.unit),
-            format!("{:.1e} {}", c.tolerance, c.unit),
-        ),
-    }
+    let unit = match c.error_measure {
+        ErrorMeasure::Relative => "rel",
+        ErrorMeasure::Absolute => c.unit.as_str(),
+    };
+    (
+        format!("{} {unit}", sci(c.error, 3)),
+        format!("{} {unit}", sci(c.tolerance, 1)),
+    )
 }
 
-/// The table `xsheat verify` prints.
+/// The table `xsheat verify` prints, and the count of checks passed.
 pub fn verify_report(suite: &VerifySuite) -> String {
-    use std::fmt::Write;
     let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "{:<21} {:<20} {:<17} {:>15} {:>15} {:>15} {:>13} {:>9} result",
-        "case", "source", "quantity", "reference", "computed", "error", "tolerance", "triangles"
+    let mut t = table(
+        &[
+            "case",
+            "source",
+            "quantity",
+            "reference",
+            "computed",
+            "error",
+            "tolerance",
+            "triangles",
+            "result",
+        ],
+        "lllrrrrrl",
     );
     for c in &suite.cases {
-        let (e, t) = error_text(c);
-        let _ = writeln!(
-            s,
-            "{:<21} {:<20} {:<17} {:>15.9} {:>15.9} {:>15} {:>13} {:>9} {}",
-            c.case,
-            c.source,
-            c.quantity,
-            c.reference,
-            c.computed,
+        let (e, tol) = error_text(c);
+        t.add_row(vec![
+            c.case.clone(),
+            c.source.clone(),
+            c.quantity.clone(),
+            super::fixed(c.reference, 9),
+            super::fixed(c.computed, 9),
             e,
-            t,
-            c.triangles,
-            if c.passed { "pass" } else { "FAIL" }
-        );
+            tol,
+            c.triangles.to_string(),
+            if c.passed { "pass" } else { "FAIL" }.to_string(),
+        ]);
     }
+    push_table(&mut s, &t, 0);
     let _ = writeln!(s);
-    let mut seen: Vec<&str> = Vec::new();
-    for c in &suite.cases {
-        if !seen.contains(&c.case.as_str()) {
-            seen.push(&c.case);
-            let _ = writeln!(s, "{}: {}", c.case, c.reference_detail);
-        }
-    }
     let _ = writeln!(
         s,
         "{} of {} checks passed",

@@ -1,0 +1,357 @@
+//! The run summary (summary.json): typed records of every part, written in a fixed key order.
+
+use super::json::{ErrorEstimateOut, OrderedMap, json_bytes, unit_legend};
+use crate::CAUTION;
+use crate::error::{Error, Result};
+use crate::mesh::Mesh;
+use crate::model::{BoundaryKind, Section};
+use crate::post::Results;
+use crate::post::estimate::ErrorEstimate;
+use crate::run::{Check, Cycle, Timings};
+use serde::Serialize;
+use serde_json::Value;
+use std::collections::BTreeSet;
+
+/// Summary schema; raised when a key changes meaning or disappears.
+pub const SUMMARY_SCHEMA: &str = "xsheat.summary/2";
+
+/// Everything the summary is built from; the caller fills it.
+#[derive(Debug, Clone, Copy)]
+pub struct SummaryInputs<'a> {
+    /// The validated section.
+    pub section: &'a Section,
+    /// The mesh the results live on.
+    pub mesh: &'a Mesh,
+    /// The post-processed results.
+    pub results: &'a Results,
+    /// All warnings of the run (model, mesh, post), in the order they should be shown.
+    pub warnings: &'a [String],
+    /// Numerical self-checks of the run.
+    pub checks: &'a [Check],
+    /// The Zienkiewicz–Zhu error estimate of the field.
+    pub error_estimate: &'a ErrorEstimate,
+    /// Adaptive refinement history (empty for a plain solve: then no `adaptivity` key).
+    pub adaptivity: &'a [Cycle],
+    /// Wall-clock time per stage: the only part expected to vary run to run.
+    pub timings: &'a Timings,
+    /// The model as resolved, with its defaults filled in, in the model file's own key names.
+    pub model: &'a Value,
+}
+
+#[derive(Serialize)]
+struct MaterialOut<'a> {
+    id: usize,
+    name: &'a str,
+    conductivity_w_per_m_k: f64,
+    heat_source_w_per_m3: f64,
+}
+
+#[derive(Serialize)]
+struct TemperatureOut {
+    min_c: f64,
+    max_c: f64,
+    min_at_m: [f64; 2],
+    max_at_m: [f64; 2],
+    min_node: usize,
+    max_node: usize,
+}
+
+/// A boundary condition with unit-suffixed keys.
+#[derive(Serialize)]
+#[serde(tag = "kind", rename_all = "lowercase")]
+enum ConditionOut {
+    Fixed { temperature_c: f64 },
+    Insulated,
+    Flux { flux_w_per_m2: f64 },
+    Convection { h_w_per_m2_k: f64, ambient_c: f64 },
+}
+
+impl From<&BoundaryKind> for ConditionOut {
+    fn from(k: &BoundaryKind) -> Self {
+        match *k {
+            BoundaryKind::Fixed { temperature } => Self::Fixed {
+                temperature_c: temperature,
+            },
+            BoundaryKind::Insulated => Self::Insulated,
+            BoundaryKind::Flux { flux } => Self::Flux {
+                flux_w_per_m2: flux,
+            },
+            BoundaryKind::Convection { h, ambient } => Self::Convection {
+                h_w_per_m2_k: h,
+                ambient_c: ambient,
+            },
+        }
+    }
+}
+
+#[derive(Serialize)]
+struct BoundaryOut<'a> {
+    name: &'a str,
+    kind: &'a str,
+    length_m: f64,
+    heat_flow_w_per_m: f64,
+    mean_temperature_c: f64,
+    min_temperature_c: f64,
+    max_temperature_c: f64,
+    /// The boundary condition as given (null for unnamed segments).
+    condition: Option<ConditionOut>,
+}
+
+#[derive(Serialize)]
+struct ProbeOut<'a> {
+    name: &'a str,
+    x_m: f64,
+    y_m: f64,
+    temperature_c: f64,
+    requested_at_m: [f64; 2],
+    snapped: bool,
+}
+
+#[derive(Serialize)]
+struct SkippedOut {
+    index: usize,
+    x_m: f64,
+    y_m: f64,
+}
+
+#[derive(Serialize)]
+struct LineOut<'a> {
+    name: &'a str,
+    /// Number of samples evaluated (rows of the line's CSV).
+    samples: usize,
+    skipped: Vec<SkippedOut>,
+}
+
+#[derive(Serialize)]
+struct CycleOut {
+    cycle: usize,
+    triangles: usize,
+    nodes: usize,
+    relative: f64,
+    energy_norm_sqrt_w_k_per_m: f64,
+}
+
+#[derive(Serialize)]
+struct CheckOut<'a> {
+    name: &'a str,
+    value: f64,
+    tolerance: f64,
+    passed: bool,
+    severity: crate::run::Severity,
+    detail: &'a str,
+}
+
+#[derive(Serialize)]
+struct TimingsOut {
+    mesh_s: f64,
+    assemble_s: f64,
+    solve_s: f64,
+    post_s: f64,
+}
+
+#[derive(Serialize)]
+struct RunOut {
+    timings: TimingsOut,
+    note: &'static str,
+}
+
+#[derive(Serialize)]
+struct Summary<'a> {
+    schema: &'static str,
+    version: &'static str,
+    title: &'a str,
+    caution: &'static str,
+    units: OrderedMap<&'static str, &'static str>,
+    nodes: usize,
+    triangles: usize,
+    min_angle_deg: f64,
+    max_triangle_area_m2: f64,
+    section_area_m2: f64,
+    materials: Vec<MaterialOut<'a>>,
+    temperature: TemperatureOut,
+    heat_flow_w_per_m: OrderedMap<&'a str, f64>,
+    boundaries: Vec<BoundaryOut<'a>>,
+    heat_source_w_per_m: f64,
+    energy_imbalance_w_per_m: f64,
+    energy_imbalance_relative: f64,
+    probes: Vec<ProbeOut<'a>>,
+    lines: Vec<LineOut<'a>>,
+    error_estimate: ErrorEstimateOut,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    adaptivity: Vec<CycleOut>,
+    warnings: &'a [String],
+    checks: Vec<CheckOut<'a>>,
+    model: &'a Value,
+    run: RunOut,
+}
+
+/// Step 1: every boundary name appears once (the heat-flow object is keyed by name).
+fn check_unique_boundaries(r: &Results) -> Result<()> {
+    let mut names = BTreeSet::new();
+    for b in &r.boundaries {
+        if !names.insert(b.name.as_str()) {
+            return Err(Error::run(format!(
+                "internal: boundary {:?} appears twice in the results",
+                b.name
+            )));
+        }
+    }
+    Ok(())
+}
+
+fn materials(section: &Section) -> Vec<MaterialOut<'_>> {
+    section
+        .materials
+        .iter()
+        .map(|m| MaterialOut {
+            id: m.id,
+            name: &m.name,
+            conductivity_w_per_m_k: m.conductivity,
+            heat_source_w_per_m3: m.heat_source,
+        })
+        .collect()
+}
+
+fn boundaries<'a>(section: &'a Section, r: &'a Results) -> Vec<BoundaryOut<'a>> {
+    r.boundaries
+        .iter()
+        .map(|b| BoundaryOut {
+            name: &b.name,
+            kind: &b.kind,
+            length_m: b.length,
+            heat_flow_w_per_m: b.heat_flow,
+            mean_temperature_c: b.mean_temperature,
+            min_temperature_c: b.min_temperature,
+            max_temperature_c: b.max_temperature,
+            condition: section
+                .boundaries
+                .iter()
+                .find(|s| s.name == b.name)
+                .map(|s| ConditionOut::from(&s.kind)),
+        })
+        .collect()
+}
+
+fn probes(r: &Results) -> Vec<ProbeOut<'_>> {
+    r.probes
+        .iter()
+        .map(|p| ProbeOut {
+            name: &p.name,
+            x_m: p.x,
+            y_m: p.y,
+            temperature_c: p.temperature,
+            requested_at_m: p.at,
+            snapped: p.snapped,
+        })
+        .collect()
+}
+
+fn lines(r: &Results) -> Vec<LineOut<'_>> {
+    r.lines
+        .iter()
+        .map(|l| LineOut {
+            name: &l.name,
+            samples: l.samples.len(),
+            skipped: l
+                .skipped
+                .iter()
+                .map(|&(index, [x, y])| SkippedOut {
+                    index,
+                    x_m: x,
+                    y_m: y,
+                })
+                .collect(),
+        })
+        .collect()
+}
+
+fn cycles(c: &[Cycle]) -> Vec<CycleOut> {
+    c.iter()
+        .map(|c| CycleOut {
+            cycle: c.cycle,
+            triangles: c.triangles,
+            nodes: c.nodes,
+            relative: c.relative_error,
+            energy_norm_sqrt_w_k_per_m: c.energy_norm_error,
+        })
+        .collect()
+}
+
+fn checks(c: &[Check]) -> Vec<CheckOut<'_>> {
+    c.iter()
+        .map(|c| CheckOut {
+            name: &c.name,
+            value: c.value,
+            tolerance: c.tolerance,
+            passed: c.passed,
+            severity: c.severity,
+            detail: &c.detail,
+        })
+        .collect()
+}
+
+fn run_out(t: &Timings) -> RunOut {
+    RunOut {
+        timings: TimingsOut {
+            mesh_s: t.mesh_s,
+            assemble_s: t.assemble_s,
+            solve_s: t.solve_s,
+            post_s: t.post_s,
+        },
+        note: "the only part of this file that may change from run to run",
+    }
+}
+
+/// The run summary as pretty-printed JSON with a trailing newline. Keys appear in a fixed
+/// order (identification, unit legend, mesh, materials, results, error estimate, adaptivity,
+/// warnings, checks, model, run); per-boundary, probe and line entries keep the order of
+/// `results`.
+pub fn summary_json(inputs: &SummaryInputs<'_>) -> Result<Vec<u8>> {
+    let SummaryInputs {
+        section,
+        mesh,
+        results: r,
+        ..
+    } = *inputs;
+    check_unique_boundaries(r)?;
+    let summary = Summary {
+        schema: SUMMARY_SCHEMA,
+        version: crate::VERSION,
+        title: &section.title,
+        caution: CAUTION,
+        units: unit_legend(),
+        nodes: mesh.nodes.len(),
+        triangles: mesh.triangles.len(),
+        min_angle_deg: mesh.stats.min_angle_deg,
+        max_triangle_area_m2: mesh.stats.max_area,
+        section_area_m2: mesh.stats.area,
+        materials: materials(section),
+        temperature: TemperatureOut {
+            min_c: r.t_min.value,
+            max_c: r.t_max.value,
+            min_at_m: r.t_min.at,
+            max_at_m: r.t_max.at,
+            min_node: r.t_min.node,
+            max_node: r.t_max.node,
+        },
+        heat_flow_w_per_m: OrderedMap(
+            r.boundaries
+                .iter()
+                .map(|b| (b.name.as_str(), b.heat_flow))
+                .collect(),
+        ),
+        boundaries: boundaries(section, r),
+        heat_source_w_per_m: r.heat_source,
+        energy_imbalance_w_per_m: r.energy_imbalance,
+        energy_imbalance_relative: r.energy_imbalance_relative,
+        probes: probes(r),
+        lines: lines(r),
+        error_estimate: ErrorEstimateOut::from(inputs.error_estimate),
+        adaptivity: cycles(inputs.adaptivity),
+        warnings: inputs.warnings,
+        checks: checks(inputs.checks),
+        model: inputs.model,
+        run: run_out(inputs.timings),
+    };
+    json_bytes(&summary, "summary JSON")
+}

@@ -1,0 +1,218 @@
+//! Console text of `xsheat check` (what a validated model holds) and `xsheat mesh` (mesh counts
+//! and quality).
+
+use super::{fixed, push_table, sci, table};
+use crate::mesh::{self, Mesh};
+use crate::model::{BoundaryKind, Ring, Section};
+use crate::run::Prepared;
+use std::fmt::Write;
+
+fn ring_line(r: &Ring) -> String {
+    match &r.circle {
+        Some(c) => format!(
+            "circle centre ({}, {}) radius {} m as {} segments (sagitta {} m)",
+            c.center[0],
+            c.center[1],
+            c.radius,
+            c.segments,
+            sci(c.sagitta(), 3)
+        ),
+        None => format!("polygon of {} points", r.len()),
+    }
+}
+
+fn kind_line(k: &BoundaryKind) -> String {
+    match k {
+        BoundaryKind::Fixed { temperature } => format!("fixed, T = {temperature} °C"),
+        BoundaryKind::Insulated => "insulated".to_string(),
+        BoundaryKind::Flux { flux } => format!("flux, q = {flux} W/m² (into the section)"),
+        BoundaryKind::Convection { h, ambient } => {
+            format!("convection, h = {h} W/(m²·K), ambient {ambient} °C")
+        }
+    }
+}
+
+fn seg_len(r: &Ring, i: usize) -> f64 {
+    let (a, b) = r.segment(i);
+    ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt()
+}
+
+/// Length of boundary `id` on the outline and the holes, as written.
+fn boundary_length(s: &Section, id: usize) -> f64 {
+    std::iter::once(&s.outline)
+        .chain(s.holes.iter())
+        .map(|r| {
+            (0..r.len())
+                .filter(|&i| r.edge_boundary[i] == Some(id))
+                .map(|i| seg_len(r, i))
+                .sum::<f64>()
+        })
+        .sum()
+}
+
+fn section_lines(o: &mut String, p: &Prepared) {
+    let s = &p.section;
+    let area = mesh::section_area(s);
+    let _ = writeln!(
+        o,
+        "section: area {} m², bounding-box diagonal {} m",
+        fixed(area, 6),
+        fixed(s.diameter(), 6)
+    );
+    let _ = writeln!(
+        o,
+        "mesh settings: max_area {} m²{}, min_angle {}°, about {:.0} triangles expected",
+        sci(s.mesh.max_area, 6),
+        if s.mesh.max_area_is_default {
+            " (default: section area / 4000)"
+        } else {
+            ""
+        },
+        s.mesh.min_angle,
+        mesh::estimate_triangles(area, s.mesh.max_area)
+    );
+}
+
+fn materials_table(o: &mut String, s: &Section) {
+    let _ = writeln!(o, "materials:");
+    let mut t = table(
+        &["id", "name", "conductivity W/(m·K)", "heat source W/m³"],
+        "rlrr",
+    );
+    for m in &s.materials {
+        t.add_row(vec![
+            m.id.to_string(),
+            m.name.clone(),
+            m.conductivity.to_string(),
+            m.heat_source.to_string(),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
+fn rings_lines(o: &mut String, s: &Section) {
+    let _ = writeln!(
+        o,
+        "outline: {} ({}), material {}",
+        ring_line(&s.outline),
+        s.outline.label,
+        s.materials[s.outline_material].name
+    );
+    for r in &s.regions {
+        let _ = writeln!(
+            o,
+            "{}: {}, material {}",
+            r.ring.label,
+            ring_line(&r.ring),
+            s.materials[r.material].name
+        );
+    }
+    for h in &s.holes {
+        let _ = writeln!(o, "{}: {}", h.label, ring_line(h));
+    }
+}
+
+fn boundaries_table(o: &mut String, s: &Section) {
+    let _ = writeln!(o, "boundaries (length on the rings as written):");
+    let mut t = table(&["name", "condition", "length m"], "llr");
+    for (id, b) in s.boundaries.iter().enumerate() {
+        t.add_row(vec![
+            b.name.clone(),
+            kind_line(&b.kind),
+            fixed(boundary_length(s, id), 6),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
+/// What a validated model holds: section, mesh settings, materials, rings, boundaries, probes,
+/// lines and the segment set (`mesh` is the unrefined triangulation).
+pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
+    let s = &p.section;
+    let mut o = String::new();
+    let _ = writeln!(o, "model: {}", s.title);
+    section_lines(&mut o, p);
+    materials_table(&mut o, s);
+    rings_lines(&mut o, s);
+    boundaries_table(&mut o, s);
+    for pr in &s.probes {
+        let _ = writeln!(o, "probe {}: ({}, {})", pr.name, pr.at[0], pr.at[1]);
+    }
+    for l in &s.lines {
+        let _ = writeln!(
+            o,
+            "line {}: ({}, {}) → ({}, {}), {} samples",
+            l.name, l.from[0], l.from[1], l.to[0], l.to[1], l.samples
+        );
+    }
+    let _ = writeln!(
+        o,
+        "segment set: {} vertices, {} constraint segments; unrefined triangulation has {} triangles",
+        p.pslg.vertices.len(),
+        p.pslg.pieces.len(),
+        mesh.stats.triangles
+    );
+    o
+}
+
+fn small_angle_lines(o: &mut String, s: &Section, m: &Mesh) {
+    let st = &m.stats;
+    if st.small_input_angles.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        o,
+        "input angles below {}° (2 × min_angle; the angle limit may not hold next to them): {}",
+        crate::mesh::SMALL_INPUT_ANGLE_FACTOR * s.mesh.min_angle,
+        st.small_input_angles.len()
+    );
+    for a in &st.small_input_angles {
+        let _ = writeln!(
+            o,
+            "  {}° at {}, triangles within {} m count as next to it",
+            fixed(a.angle_deg, 3),
+            super::point(a.at, 6),
+            sci(a.radius, 4)
+        );
+    }
+    let _ = writeln!(
+        o,
+        "min angle away from them {}°",
+        fixed(st.min_angle_away_from_small_input_angles_deg, 3)
+    );
+}
+
+/// Mesh counts and quality: nodes, triangles, smallest angle and where, triangle areas, and
+/// the small input angles the angle limit cannot hold next to.
+pub fn mesh_report(s: &Section, m: &Mesh) -> String {
+    let st = &m.stats;
+    let mut o = String::new();
+    let _ = writeln!(
+        o,
+        "mesh: {} nodes, {} triangles, {} boundary edges",
+        st.nodes, st.triangles, st.boundary_edges
+    );
+    let _ = writeln!(
+        o,
+        "min angle {}° (limit {}°), worst triangle {} at {}",
+        fixed(st.min_angle_deg, 3),
+        s.mesh.min_angle,
+        st.worst_triangle,
+        super::point(st.worst_triangle_centroid, 6)
+    );
+    let _ = writeln!(
+        o,
+        "triangle area {} .. {} m² (limit {} m²{}), meshed area {} m²",
+        sci(st.min_area, 6),
+        sci(st.max_area, 6),
+        sci(s.mesh.max_area, 6),
+        if s.mesh.max_area_is_default {
+            ", default"
+        } else {
+            ""
+        },
+        fixed(st.area, 6)
+    );
+    small_angle_lines(&mut o, s, m);
+    o
+}

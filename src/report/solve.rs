@@ -1,0 +1,145 @@
+//! Console text of `xsheat solve`: mesh, temperatures, heat flows, probes, lines, the
+//! Zienkiewicz–Zhu estimate, adaptive cycles, self-checks and warnings.
+
+use super::{fixed, mesh_report, point, push_table, sci, sig3, table};
+use crate::output::ERROR_ESTIMATE_METHOD;
+use crate::post::Results;
+use crate::run::{Check, CheckStatus, Cycle, Solved};
+use std::fmt::Write;
+
+fn temperature_line(o: &mut String, r: &Results) {
+    let _ = writeln!(
+        o,
+        "temperature: min {} °C at {}, max {} °C at {}",
+        fixed(r.t_min.value, 4),
+        point(r.t_min.at, 6),
+        fixed(r.t_max.value, 4),
+        point(r.t_max.at, 6)
+    );
+}
+
+fn boundaries_table(o: &mut String, r: &Results) {
+    let _ = writeln!(
+        o,
+        "heat flow per boundary (W per metre of depth, positive into the section):"
+    );
+    let mut t = table(
+        &[
+            "boundary",
+            "kind",
+            "length m",
+            "heat flow W/m",
+            "mean °C",
+            "min °C",
+            "max °C",
+        ],
+        "llrrrrr",
+    );
+    for b in &r.boundaries {
+        t.add_row(vec![
+            b.name.clone(),
+            b.kind.clone(),
+            fixed(b.length, 6),
+            fixed(b.heat_flow, 6),
+            fixed(b.mean_temperature, 4),
+            fixed(b.min_temperature, 4),
+            fixed(b.max_temperature, 4),
+        ]);
+    }
+    t.add_row(vec![
+        "heat source".to_string(),
+        String::new(),
+        String::new(),
+        fixed(r.heat_source, 6),
+    ]);
+    push_table(o, &t, 1);
+    let _ = writeln!(
+        o,
+        "energy imbalance {} W/m (relative {})",
+        sci(r.energy_imbalance, 3),
+        sci(r.energy_imbalance_relative, 3)
+    );
+}
+
+fn probes_and_lines(o: &mut String, r: &Results) {
+    if !r.probes.is_empty() {
+        let _ = writeln!(o, "probes:");
+        let mut t = table(&["probe", "x m", "y m", "temperature °C", ""], "lrrrl");
+        for p in &r.probes {
+            t.add_row(vec![
+                p.name.clone(),
+                fixed(p.x, 6),
+                fixed(p.y, 6),
+                fixed(p.temperature, 6),
+                if p.snapped {
+                    "taken at the nearest boundary point".to_string()
+                } else {
+                    String::new()
+                },
+            ]);
+        }
+        push_table(o, &t, 1);
+    }
+    for l in &r.lines {
+        let _ = writeln!(
+            o,
+            "line {}: {} samples inside, {} skipped",
+            l.name,
+            l.samples.len(),
+            l.skipped.len()
+        );
+    }
+}
+
+fn adaptivity_table(o: &mut String, cycles: &[Cycle]) {
+    if cycles.is_empty() {
+        return;
+    }
+    let _ = writeln!(o, "adaptive refinement:");
+    let estimate = format!("{ERROR_ESTIMATE_METHOD} estimate");
+    let mut t = table(&["cycle", "triangles", "nodes", &estimate], "rrrr");
+    for c in cycles {
+        t.add_row(vec![
+            c.cycle.to_string(),
+            c.triangles.to_string(),
+            c.nodes.to_string(),
+            sig3(c.relative_error),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
+fn checks_table(o: &mut String, checks: &[Check]) {
+    let _ = writeln!(o, "self-checks:");
+    let mut t = table(&["check", "result", "detail"], "lll");
+    for c in checks {
+        let result = match c.status() {
+            CheckStatus::Passed => "pass",
+            CheckStatus::Failed => "FAIL",
+            CheckStatus::Warning => "WARN",
+        };
+        t.add_row(vec![c.name.clone(), result.to_string(), c.detail.clone()]);
+    }
+    push_table(o, &t, 1);
+}
+
+/// The solve summary: what `xsheat solve` prints (results only; the caller prints the caution).
+pub fn solve_report(sv: &Solved) -> String {
+    let s = sv.section();
+    let r = &sv.results;
+    let mut o = String::new();
+    let _ = writeln!(o, "xsheat {} — {}", crate::VERSION, s.title);
+    o.push_str(&mesh_report(s, &sv.mesh));
+    temperature_line(&mut o, r);
+    boundaries_table(&mut o, r);
+    probes_and_lines(&mut o, r);
+    let _ = writeln!(
+        o,
+        "{ERROR_ESTIMATE_METHOD} estimate: {} (estimated error {} (W·K/m)^½)",
+        sig3(sv.error_estimate.relative),
+        sci(sv.error_estimate.energy_norm, 3)
+    );
+    adaptivity_table(&mut o, &sv.adaptivity);
+    checks_table(&mut o, &sv.checks);
+    o
+}
