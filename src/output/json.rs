@@ -210,7 +210,7 @@ pub fn summary_json(inputs: &SummaryInputs<'_>) -> Result<Vec<u8>> {
             .iter()
             .map(|b| BoundaryOut {
                 name: &b.name,
-                kind: &b.kind,
+                kind: b.kind.as_str(),
                 length_m: b.length,
                 heat_flow_w_per_m: b.heat_flow,
                 mean_temperature_c: b.mean_temperature,

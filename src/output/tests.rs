@@ -8,7 +8,7 @@ use crate::mesh::Mesh;
 use crate::mesh::{BoundaryEdge, MeshStats, RingRef};
 use crate::model::Section;
 use crate::model::{Boundary, BoundaryKind, Material, MeshSettings, Ring};
-use crate::post::{BoundaryResult, Extreme, LineSample, ProbeResult};
+use crate::post::{BoundaryResult, ConditionKind, Extreme, LineSample, ProbeResult};
 use crate::post::{LineResult, Results};
 use serde_json::Value;
 use serde_json::json;
@@ -51,9 +51,9 @@ fn tiny_mesh() -> Mesh {
 }
 
 fn tiny_results() -> Results {
-    let boundary = |name: &str, kind: &str, q: f64| BoundaryResult {
+    let boundary = |name: &str, kind: ConditionKind, q: f64| BoundaryResult {
         name: name.into(),
-        kind: kind.into(),
+        kind,
         length: 1.0,
         heat_flow: q,
         mean_temperature: 10.0,
@@ -68,9 +68,9 @@ fn tiny_results() -> Results {
         nodal_flux: vec![[10.0, 1e-20]; 4],
         // Deliberately not alphabetical: output must follow this order.
         boundaries: vec![
-            boundary("warm", "fixed", 10.0),
-            boundary("cold", "fixed", -10.0),
-            boundary("(unnamed)", "insulated", 0.0),
+            boundary("warm", ConditionKind::Fixed, 10.0),
+            boundary("cold", ConditionKind::Fixed, -10.0),
+            boundary("(unnamed)", ConditionKind::Insulated, 0.0),
         ],
         heat_source: 0.0,
         energy_imbalance: 1.0e-15,
