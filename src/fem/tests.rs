@@ -122,3 +122,36 @@ fn matrix_is_symmetric_and_conduction_conserves_heat() {
     assert!(base.iter().all(|&i| system.fixed[i] == Some(60.0)));
     assert_eq!(system.fixed.iter().filter(|f| f.is_some()).count(), 6);
 }
+
+#[test]
+fn mesh_consistency_names_the_offending_item() {
+    let tags = [Some(0); 4];
+    let section = rectangle_section(
+        1.0,
+        1.0,
+        &[("m", 1.0, 0.0)],
+        &[("t", BoundaryKind::Fixed { temperature: 0.0 })],
+        tags,
+    );
+    let message = |mesh: &Mesh| match check_mesh(&section, mesh) {
+        Err(Error::Run(m)) => m,
+        other => panic!("expected a run error, got {other:?}"),
+    };
+    let good = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    assert_eq!(check_mesh(&section, &good), Ok(()));
+    let mut mesh = good.clone();
+    mesh.triangles[2][1] = 99;
+    assert!(message(&mesh).contains("triangle 2 refers to node 99"));
+    let mut mesh = good.clone();
+    mesh.material.pop();
+    assert!(message(&mesh).contains("7 material ids for 8 triangles"));
+    let mut mesh = good.clone();
+    mesh.boundary_edges[3].triangle = 8;
+    assert!(message(&mesh).contains("boundary edge 3 refers to triangle 8"));
+    let mut mesh = good.clone();
+    mesh.material[5] = 1;
+    assert!(message(&mesh).contains("triangle 5 has material id 1"));
+    let mut mesh = good;
+    mesh.boundary_edges[0].boundary = Some(4);
+    assert!(message(&mesh).contains("boundary edge 0 has boundary id 4"));
+}

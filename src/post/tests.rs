@@ -389,3 +389,28 @@ fn million_triangles_end_to_end() {
     assert!(solution.residual_relative < 1e-10);
     assert!(results.energy_imbalance_relative < 1e-10);
 }
+
+#[test]
+fn condition_kind_serialises_and_displays_as_the_model_file_name() {
+    for (kind, name) in [
+        (ConditionKind::Fixed, "fixed"),
+        (ConditionKind::Insulated, "insulated"),
+        (ConditionKind::Flux, "flux"),
+        (ConditionKind::Convection, "convection"),
+    ] {
+        assert_eq!(serde_json::to_value(kind).unwrap(), name);
+        assert_eq!(kind.to_string(), name);
+    }
+    assert_eq!(format!("[{:<6}]", ConditionKind::Flux), "[flux  ]");
+    let (section, mesh) = slab();
+    let (_, _, results) = run(&section, &mesh);
+    let kinds: Vec<_> = results.boundaries.iter().map(|b| b.kind).collect();
+    assert_eq!(
+        kinds,
+        [
+            ConditionKind::Fixed,
+            ConditionKind::Fixed,
+            ConditionKind::Insulated
+        ]
+    );
+}

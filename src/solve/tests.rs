@@ -122,3 +122,22 @@ fn indefinite_matrix_fails_with_a_run_error() {
     let err = SparseCholesky::factorize(&a).unwrap_err();
     assert!(matches!(&err, Error::Run(m) if m.contains("not numerically positive definite")));
 }
+
+#[test]
+fn conversion_to_faer_keeps_every_entry_and_refuses_non_square() {
+    let (section, mesh) = plate(3);
+    let system = assemble(&section, &mesh).unwrap();
+    let a = &system.matrix;
+    let f = to_faer(a).unwrap();
+    assert_eq!((f.nrows(), f.ncols()), (a.rows(), a.cols()));
+    // faer holds the CSR arrays as columns: entry (i, j) of faer is entry (j, i) of sprs,
+    // which equals (i, j) by symmetry.
+    let mut count = 0;
+    for (v, (i, j)) in a.iter() {
+        assert_eq!(f.as_ref().get(j, i), Some(v));
+        count += 1;
+    }
+    assert_eq!(f.compute_nnz(), count);
+    let rect = sprs::TriMat::from_triplets((2, 3), vec![0], vec![2], vec![1.0]).to_csr();
+    assert!(matches!(to_faer(&rect), Err(Error::Run(m)) if m.contains("non-square 2×3")));
+}
