@@ -78,7 +78,7 @@ fn main() -> Result<(), xsheat::Error> {
             let t1 = Instant::now();
             let sys = fem::assemble(&prepared.section, &m)?;
             let t2 = Instant::now();
-            let sol = solve::solve(&sys)?;
+            let sol = solve::solve_system(&sys)?;
             let t3 = Instant::now();
             let _ = post::postprocess(&prepared.section, &m, &sys, &sol)?;
             let t4 = Instant::now();

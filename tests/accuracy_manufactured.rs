@@ -81,7 +81,7 @@ temperature = 0.0
             *f = Some(exact(mesh.nodes[i]));
         }
     }
-    let sol = solve::solve(&system).unwrap();
+    let sol = solve::solve_system(&system).unwrap();
     let results = post::postprocess(&p.section, &mesh, &system, &sol).unwrap();
     let est = post::estimate::zz_estimate(&p.section, &mesh, &system, &results).unwrap();
 

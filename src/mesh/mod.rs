@@ -943,3 +943,46 @@ fn extract(
         stats,
     })
 }
+
+impl Mesh {
+    /// Checks the mesh's internal consistency: one material id per triangle, every triangle and
+    /// boundary-edge node index in range, boundary edges with two distinct nodes and an existing
+    /// triangle. A failure is an internal error of the stage that made the mesh; the message
+    /// names the offending item.
+    pub fn check_consistency(&self) -> crate::error::Result<()> {
+        let bad = |what: String| {
+            Err(crate::error::Error::run(format!(
+                "internal mesh inconsistency: {what}"
+            )))
+        };
+        let (n, nt) = (self.nodes.len(), self.triangles.len());
+        if self.material.len() != nt {
+            return bad(format!(
+                "{} material ids for {nt} triangles",
+                self.material.len()
+            ));
+        }
+        for (t, tri) in self.triangles.iter().enumerate() {
+            if let Some(&v) = tri.iter().find(|&&v| v >= n) {
+                return bad(format!(
+                    "triangle {t} refers to node {v}, but the mesh has {n} nodes"
+                ));
+            }
+        }
+        for (e, edge) in self.boundary_edges.iter().enumerate() {
+            let [a, b] = edge.nodes;
+            if a >= n || b >= n || a == b {
+                return bad(format!(
+                    "boundary edge {e} has nodes {a} and {b} (the mesh has {n} nodes)"
+                ));
+            }
+            if edge.triangle >= nt {
+                return bad(format!(
+                    "boundary edge {e} refers to triangle {}, but the mesh has {nt} triangles",
+                    edge.triangle
+                ));
+            }
+        }
+        Ok(())
+    }
+}

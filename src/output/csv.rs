@@ -98,7 +98,7 @@ pub fn boundaries_csv(results: &Results) -> Result<Vec<u8>> {
         results.boundaries.iter().map(|b| {
             [
                 b.name.clone(),
-                b.kind.clone(),
+                b.kind.to_string(),
                 format_f64(b.length),
                 format_f64(b.heat_flow),
                 format_f64(b.mean_temperature),

@@ -217,7 +217,7 @@ fn boundaries<'a>(section: &'a Section, r: &'a Results) -> Vec<BoundaryOut<'a>> 
         .iter()
         .map(|b| BoundaryOut {
             name: &b.name,
-            kind: &b.kind,
+            kind: b.kind.as_str(),
             length_m: b.length,
             heat_flow_w_per_m: b.heat_flow,
             mean_temperature_c: b.mean_temperature,

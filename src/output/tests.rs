@@ -7,7 +7,7 @@ use crate::mesh::Mesh;
 use crate::mesh::{BoundaryEdge, MeshStats, RingRef};
 use crate::model::Section;
 use crate::post::estimate::ErrorEstimate;
-use crate::post::{BoundaryResult, Extreme, LineSample, ProbeResult};
+use crate::post::{BoundaryResult, ConditionKind, Extreme, LineSample, ProbeResult};
 use crate::post::{LineResult, Results};
 use crate::run::{Check, Cycle, Timings};
 use serde_json::Value;
@@ -50,9 +50,9 @@ fn tiny_mesh() -> Mesh {
 }
 
 fn tiny_results() -> Results {
-    let boundary = |name: &str, kind: &str, q: f64| BoundaryResult {
+    let boundary = |name: &str, kind: ConditionKind, q: f64| BoundaryResult {
         name: name.into(),
-        kind: kind.into(),
+        kind,
         length: 1.0,
         heat_flow: q,
         mean_temperature: 10.0,
@@ -67,9 +67,9 @@ fn tiny_results() -> Results {
         nodal_flux: vec![[10.0, 1e-20]; 4],
         // Deliberately not alphabetical: output must follow this order.
         boundaries: vec![
-            boundary("warm", "fixed", 10.0),
-            boundary("cold", "fixed", -10.0),
-            boundary("(unnamed)", "insulated", 0.0),
+            boundary("warm", ConditionKind::Fixed, 10.0),
+            boundary("cold", ConditionKind::Fixed, -10.0),
+            boundary("(unnamed)", ConditionKind::Insulated, 0.0),
         ],
         heat_source: 0.0,
         energy_imbalance: 1.0e-15,

@@ -13,46 +13,15 @@ use vtkio::model::{
 // ---------------------------------------------------------------------------------------------
 
 pub(crate) fn check_mesh(mesh: &Mesh) -> Result<()> {
-    let n = mesh.nodes.len();
-    if mesh.material.len() != mesh.triangles.len() {
-        return Err(Error::run(format!(
-            "internal: mesh has {} triangles but {} material ids",
-            mesh.triangles.len(),
-            mesh.material.len()
-        )));
-    }
-    for (t, tri) in mesh.triangles.iter().enumerate() {
-        if let Some(&v) = tri.iter().find(|&&v| v >= n) {
-            return Err(Error::run(format!(
-                "internal: triangle {t} refers to node {v}, but the mesh has {n} nodes"
-            )));
-        }
-    }
-    Ok(())
+    mesh.check_consistency()
 }
 
 pub(crate) fn check_len(what: &str, got: usize, want: usize, per: &str) -> Result<()> {
-    if got != want {
-        return Err(Error::run(format!(
-            "internal: results hold {got} values of {what}, expected one per {per} ({want})"
-        )));
-    }
-    Ok(())
+    crate::post::check_count(what, got, want, per)
 }
 
 pub(crate) fn check_results(mesh: &Mesh, results: &Results) -> Result<()> {
-    let (n, t) = (mesh.nodes.len(), mesh.triangles.len());
-    check_len("temperature", results.temperature.len(), n, "node")?;
-    check_len("nodal gradient", results.nodal_gradient.len(), n, "node")?;
-    check_len("nodal heat flux", results.nodal_flux.len(), n, "node")?;
-    check_len(
-        "triangle gradient",
-        results.cell_gradient.len(),
-        t,
-        "triangle",
-    )?;
-    check_len("triangle heat flux", results.cell_flux.len(), t, "triangle")?;
-    Ok(())
+    results.check_lengths(mesh)
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -17,10 +17,11 @@
 //! Zienkiewicz and Zhu).
 
 use crate::error::{Error, Result};
-use crate::fem::{System, TriangleGeometry};
+use crate::fem::{Conductivity, System, TriangleGeometry};
 use crate::mesh::Mesh;
 use crate::model::Section;
 use crate::post::Results;
+use nalgebra::Vector2;
 use serde::Serialize;
 
 /// The ZZ error estimate of one solved field.
@@ -56,10 +57,10 @@ pub fn recover_gradient(mesh: &Mesh, cell_gradient: &[[f64; 2]]) -> Result<Vec<[
     }
     let n = mesh.nodes.len();
     // Per node: (material, Σ A·g, Σ A), in order of first appearance (deterministic).
-    let mut acc: Vec<Vec<(usize, [f64; 2], f64)>> = vec![Vec::new(); n];
+    let mut acc: Vec<Vec<(usize, Vector2<f64>, f64)>> = vec![Vec::new(); n];
     for (t, ids) in mesh.triangles.iter().enumerate() {
         let a = mesh.triangle_area(t).abs();
-        let g = cell_gradient[t];
+        let g = Vector2::from(cell_gradient[t]);
         let m = mesh.material[t];
         for &v in ids {
             if v >= n {
@@ -69,27 +70,23 @@ pub fn recover_gradient(mesh: &Mesh, cell_gradient: &[[f64; 2]]) -> Result<Vec<[
             }
             match acc[v].iter_mut().find(|e| e.0 == m) {
                 Some(e) => {
-                    e.1[0] += a * g[0];
-                    e.1[1] += a * g[1];
+                    e.1 += g * a;
                     e.2 += a;
                 }
-                None => acc[v].push((m, [a * g[0], a * g[1]], a)),
+                None => acc[v].push((m, g * a, a)),
             }
         }
     }
     let mut out = Vec::with_capacity(nt);
     for (t, ids) in mesh.triangles.iter().enumerate() {
         let m = mesh.material[t];
-        let mut corners = [[0.0; 2]; 3];
-        for (c, &v) in corners.iter_mut().zip(ids) {
-            // The triangle itself contributed, so the entry exists and its weight is positive
-            // unless the triangle is degenerate; then fall back to the triangle's own value.
-            *c = match acc[v].iter().find(|e| e.0 == m) {
-                Some(e) if e.2 > 0.0 => [e.1[0] / e.2, e.1[1] / e.2],
-                _ => cell_gradient[t],
-            };
-        }
-        out.push(corners);
+        // The triangle itself contributed, so the entry exists and its weight is positive
+        // unless the triangle is degenerate; then fall back to the triangle's own value.
+        let corner = |v: usize| match acc[v].iter().find(|e| e.0 == m) {
+            Some(e) if e.2 > 0.0 => (e.1 / e.2).into(),
+            _ => cell_gradient[t],
+        };
+        out.push(ids.map(corner));
     }
     Ok(out)
 }
@@ -118,7 +115,7 @@ pub fn zz_estimate(
     let mut indicator = Vec::with_capacity(nt);
     let mut eta2 = 0.0;
     let mut norm2 = 0.0;
-    for (t, c) in recovered.iter().enumerate() {
+    for (t, corners) in recovered.iter().enumerate() {
         let k = system.conductivity.get(mesh.material[t]).ok_or_else(|| {
             Error::run(format!(
                 "internal error: triangle {t} has material id {} without a conductivity",
@@ -126,21 +123,9 @@ pub fn zz_estimate(
             ))
         })?;
         let area = TriangleGeometry::of(mesh, t).area.abs();
-        let g = results.cell_gradient[t];
-        // Edge-midpoint rule: exact for the quadratic integrand, weights A/3.
-        let mut s = 0.0;
-        for i in 0..3 {
-            let j = (i + 1) % 3;
-            let e = [
-                0.5 * (c[i][0] + c[j][0]) - g[0],
-                0.5 * (c[i][1] + c[j][1]) - g[1],
-            ];
-            let ke = k.apply(e);
-            s += e[0] * ke[0] + e[1] * ke[1];
-        }
-        let et2 = (s * area / 3.0).max(0.0);
-        let kg = k.apply(g);
-        norm2 += area * (g[0] * kg[0] + g[1] * kg[1]);
+        let g = Vector2::from(results.cell_gradient[t]);
+        let et2 = indicator_squared(k, corners, g, area);
+        norm2 += area * k.energy_density(g);
         eta2 += et2;
         indicator.push(et2.sqrt());
     }
@@ -155,4 +140,17 @@ pub fn zz_estimate(
             0.0
         },
     })
+}
+
+/// η_T² = ∫_T (G* − ∇T_h)·k·(G* − ∇T_h) dA for one triangle of the given area, with G* the
+/// linear interpolant of the recovered corner gradients and `g` = ∇T_h; the edge-midpoint rule
+/// (weights A/3) is exact for the quadratic integrand. Never negative.
+fn indicator_squared(k: &Conductivity, corners: &[[f64; 2]; 3], g: Vector2<f64>, area: f64) -> f64 {
+    let mut s = 0.0;
+    for i in 0..3 {
+        let j = (i + 1) % 3;
+        let midpoint = (Vector2::from(corners[i]) + Vector2::from(corners[j])) * 0.5;
+        s += k.energy_density(midpoint - g);
+    }
+    (s * area / 3.0).max(0.0)
 }

@@ -1,48 +1,121 @@
-//! Post stage: everything computed from the solved field — gradients and heat fluxes per
-//! triangle and recovered per node, heat flow per boundary (reactions for fixed edges, exact
-//! edge integrals for flux and convection edges), the energy balance, temperature extremes,
-//! probes and line profiles. [`Locator`] (point location and nearest boundary point over
-//! bucket grids) is public for reuse by other features.
+//! Post stage: everything computed from the solved field. This file owns the result types and
+//! [`postprocess`], which strings the steps together:
+//!
+//! - [`field`]: gradients and heat fluxes per triangle and recovered per node, temperature
+//!   extremes;
+//! - [`flows`]: heat flow per boundary (reactions for fixed edges, exact edge integrals for flux
+//!   and convection edges) and the energy balance;
+//! - [`sample`]: probes and line profiles;
+//! - [`estimate`]: the Zienkiewicz–Zhu error estimate.
+//!
+//! [`Locator`] (point location and nearest boundary point) is public for reuse by other
+//! features.
+
+pub mod estimate;
+pub mod field;
+pub mod flows;
+mod locate;
+pub mod sample;
+#[cfg(test)]
+mod tests;
+
+pub use locate::*;
 
 use crate::error::{Error, Result};
-use crate::fem::{System, TriangleGeometry, check_mesh};
+use crate::fem::{System, check_mesh};
 use crate::mesh::Mesh;
 use crate::model::{BoundaryKind, Section};
 use crate::solve::Solution;
 use serde::Serialize;
+use std::fmt;
 
 /// Where an extreme temperature occurs.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Extreme {
     /// °C
     pub value: f64,
+    /// The node where it occurs (the first such node in node order).
     pub node: usize,
     /// m
     pub at: [f64; 2],
 }
 
+/// The kind of boundary condition of a [`BoundaryResult`], without its values. Serialised (and
+/// displayed) as the lowercase name used in model files: `fixed`, `insulated`, `flux`,
+/// `convection`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ConditionKind {
+    /// Fixed temperature.
+    Fixed,
+    /// Zero normal flux (also every unnamed boundary segment).
+    Insulated,
+    /// Imposed normal flux.
+    Flux,
+    /// Film coefficient to an ambient temperature.
+    Convection,
+}
+
+impl ConditionKind {
+    /// The lowercase name, as in model files.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ConditionKind::Fixed => "fixed",
+            ConditionKind::Insulated => "insulated",
+            ConditionKind::Flux => "flux",
+            ConditionKind::Convection => "convection",
+        }
+    }
+}
+
+impl From<&BoundaryKind> for ConditionKind {
+    fn from(kind: &BoundaryKind) -> Self {
+        match kind {
+            BoundaryKind::Fixed { .. } => ConditionKind::Fixed,
+            BoundaryKind::Insulated => ConditionKind::Insulated,
+            BoundaryKind::Flux { .. } => ConditionKind::Flux,
+            BoundaryKind::Convection { .. } => ConditionKind::Convection,
+        }
+    }
+}
+
+impl fmt::Display for ConditionKind {
+    /// The lowercase name; width and alignment flags are honoured.
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.pad(self.as_str())
+    }
+}
+
 /// Results for one named boundary.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BoundaryResult {
+    /// Boundary name, or "(unnamed)" for the unnamed (insulated) segments.
     pub name: String,
-    pub kind: String,
+    /// Kind of boundary condition.
+    pub kind: ConditionKind,
     /// m
     pub length: f64,
     /// W per metre of section depth, positive into the section.
     pub heat_flow: f64,
     /// Length-weighted mean surface temperature, °C.
     pub mean_temperature: f64,
+    /// Lowest nodal temperature on the boundary, °C.
     pub min_temperature: f64,
+    /// Highest nodal temperature on the boundary, °C.
     pub max_temperature: f64,
 }
 
+/// The temperature at one probe point.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ProbeResult {
+    /// Probe name.
     pub name: String,
     /// Requested position, m.
     pub at: [f64; 2],
-    /// Position where the field was evaluated (differs when snapped to the boundary), m.
+    /// x of the position where the field was evaluated (differs when snapped to the
+    /// boundary), m.
     pub x: f64,
+    /// y of the evaluated position, m.
     pub y: f64,
     /// °C
     pub temperature: f64,
@@ -51,22 +124,29 @@ pub struct ProbeResult {
     pub snapped: bool,
 }
 
+/// One sample of a line profile.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LineSample {
     /// Distance from the line's start, m.
     pub s: f64,
+    /// x of the sample point, m.
     pub x: f64,
+    /// y of the sample point, m.
     pub y: f64,
     /// °C
     pub temperature: f64,
-    /// Recovered (nodal, interpolated) heat flux, W/m².
+    /// x component of the recovered (nodal, interpolated) heat flux, W/m².
     pub qx: f64,
+    /// y component of the recovered heat flux, W/m².
     pub qy: f64,
 }
 
+/// The profile along one line.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LineResult {
+    /// Line name.
     pub name: String,
+    /// Samples inside the section, in order along the line.
     pub samples: Vec<LineSample>,
     /// Samples outside the section: (sample index, position).
     pub skipped: Vec<(usize, [f64; 2])>,
@@ -94,342 +174,71 @@ pub struct Results {
     pub energy_imbalance: f64,
     /// |imbalance| / (Σ|boundary flows| + |source|).
     pub energy_imbalance_relative: f64,
+    /// Lowest nodal temperature.
     pub t_min: Extreme,
+    /// Highest nodal temperature.
     pub t_max: Extreme,
+    /// One result per probe of the section, in order.
     pub probes: Vec<ProbeResult>,
+    /// One profile per line of the section, in order.
     pub lines: Vec<LineResult>,
     /// Warnings found while post-processing (skipped line samples, snapped probes).
     pub warnings: Vec<String>,
 }
 
-#[derive(Debug, Clone)]
-struct BoundaryAccumulator {
-    present: bool,
-    length: f64,
-    heat_flow: f64,
-    temperature_integral: f64,
-    min: f64,
-    max: f64,
-}
-
-impl BoundaryAccumulator {
-    fn new() -> Self {
-        BoundaryAccumulator {
-            present: false,
-            length: 0.0,
-            heat_flow: 0.0,
-            temperature_integral: 0.0,
-            min: f64::INFINITY,
-            max: f64::NEG_INFINITY,
-        }
-    }
-
-    fn add_edge(&mut self, length: f64, ta: f64, tb: f64) {
-        self.present = true;
-        self.length += length;
-        self.temperature_integral += 0.5 * length * (ta + tb);
-        self.min = self.min.min(ta).min(tb);
-        self.max = self.max.max(ta).max(tb);
-    }
-
-    fn result(&self, name: &str, kind: &str) -> BoundaryResult {
-        BoundaryResult {
-            name: name.to_string(),
-            kind: kind.to_string(),
-            length: self.length,
-            heat_flow: self.heat_flow,
-            mean_temperature: if self.length > 0.0 {
-                self.temperature_integral / self.length
-            } else {
-                0.5 * (self.min + self.max)
-            },
-            min_temperature: self.min,
-            max_temperature: self.max,
-        }
+impl Results {
+    /// Checks that every per-node array has one value per node of `mesh` and every
+    /// per-triangle array one value per triangle; the error names the array.
+    pub fn check_lengths(&self, mesh: &Mesh) -> Result<()> {
+        let (n, t) = (mesh.nodes.len(), mesh.triangles.len());
+        check_count("temperature", self.temperature.len(), n, "node")?;
+        check_count("nodal gradient", self.nodal_gradient.len(), n, "node")?;
+        check_count("nodal heat flux", self.nodal_flux.len(), n, "node")?;
+        check_count("triangle gradient", self.cell_gradient.len(), t, "triangle")?;
+        check_count("triangle heat flux", self.cell_flux.len(), t, "triangle")?;
+        Ok(())
     }
 }
 
-fn extreme(mesh: &Mesh, t: &[f64], better: impl Fn(f64, f64) -> bool) -> Extreme {
-    let mut node = 0;
-    for (i, &v) in t.iter().enumerate() {
-        if better(v, t[node]) {
-            node = i;
-        }
+/// An internal error unless `got == want`: results hold `got` values of `what`, expected one
+/// per `per` (`want`).
+pub fn check_count(what: &str, got: usize, want: usize, per: &str) -> Result<()> {
+    if got != want {
+        return Err(Error::run(format!(
+            "internal: results hold {got} values of {what}, expected one per {per} ({want})"
+        )));
     }
-    Extreme {
-        value: t[node],
-        node,
-        at: mesh.nodes[node],
-    }
+    Ok(())
 }
 
-/// Heat flow through each boundary edge set, positive into the section, W/m, in the order of
-/// [`Results::boundaries`].
-fn boundary_results(
-    section: &Section,
-    mesh: &Mesh,
-    system: &System,
-    temperature: &[f64],
-) -> Result<Vec<BoundaryResult>> {
-    let residual = system.residual(temperature)?;
-    let mut acc = vec![BoundaryAccumulator::new(); section.boundaries.len()];
-    let mut unnamed = BoundaryAccumulator::new();
-    // (node, boundary id, length) for both ends of every fixed edge.
-    let mut fixed_ends: Vec<(usize, usize, f64)> = Vec::new();
-    for e in &mesh.boundary_edges {
-        let l = mesh.edge_length(e);
-        let [a, b] = e.nodes;
-        let (ta, tb) = (temperature[a], temperature[b]);
-        let Some(id) = e.boundary else {
-            unnamed.add_edge(l, ta, tb);
-            continue;
-        };
-        acc[id].add_edge(l, ta, tb);
-        match section.boundaries[id].kind {
-            BoundaryKind::Fixed { .. } => {
-                fixed_ends.push((a, id, l));
-                fixed_ends.push((b, id, l));
-            }
-            BoundaryKind::Insulated => {}
-            BoundaryKind::Flux { flux } => acc[id].heat_flow += flux * l,
-            BoundaryKind::Convection { h, ambient } => {
-                acc[id].heat_flow += h * l * (ambient - 0.5 * (ta + tb));
-            }
-        }
-    }
-    // Reactions of fixed nodes, split between the fixed boundaries meeting at a node in
-    // proportion to the lengths of its adjacent fixed edges of each.
-    fixed_ends.sort_by_key(|x| (x.0, x.1));
-    let mut k = 0;
-    while k < fixed_ends.len() {
-        let node = fixed_ends[k].0;
-        let mut end = k;
-        let mut total = 0.0;
-        while end < fixed_ends.len() && fixed_ends[end].0 == node {
-            total += fixed_ends[end].2;
-            end += 1;
-        }
-        let r = residual[node];
-        let single = fixed_ends[k..end].iter().all(|x| x.1 == fixed_ends[k].1);
-        let mut m = k;
-        while m < end {
-            let id = fixed_ends[m].1;
-            let mut l = 0.0;
-            while m < end && fixed_ends[m].1 == id {
-                l += fixed_ends[m].2;
-                m += 1;
-            }
-            acc[id].heat_flow += if single { r } else { r * l / total };
-        }
-        k = end;
-    }
-    let mut out: Vec<BoundaryResult> = acc
-        .iter()
-        .zip(&section.boundaries)
-        .filter(|(a, _)| a.present)
-        .map(|(a, b)| a.result(&b.name, b.kind.name()))
-        .collect();
-    if unnamed.present {
-        out.push(unnamed.result("(unnamed)", "insulated"));
-    }
-    Ok(out)
-}
-
-/// Computes everything derived from a solved field; see [`Results`].
+/// Computes everything derived from a solved field; see [`Results`]. Steps: check the inputs,
+/// gradients and fluxes, boundary heat flows and the energy balance, extremes, probes, lines.
 pub fn postprocess(
     section: &Section,
     mesh: &Mesh,
     system: &System,
     solution: &Solution,
 ) -> Result<Results> {
-    check_mesh(section, mesh)?;
-    let n = mesh.nodes.len();
-    let nt = mesh.triangles.len();
-    if system.node_count() != n
-        || solution.temperature.len() != n
-        || system.cell_source.len() != nt
-        || system.conductivity.len() != section.materials.len()
-    {
-        return Err(Error::run(
-            "internal error: mesh, system and solution disagree in size",
-        ));
-    }
+    check_inputs(section, mesh, system, solution)?;
     let temperature = &solution.temperature;
-    if let Some(i) = temperature.iter().position(|v| !v.is_finite()) {
-        return Err(Error::run(format!(
-            "the solved temperature at node {i} is not finite"
-        )));
-    }
-
-    // Gradients and fluxes per triangle, recovered per node by area weighting.
-    let mut cell_gradient = Vec::with_capacity(nt);
-    let mut cell_flux = Vec::with_capacity(nt);
-    let mut sum = vec![[0.0f64; 4]; n];
-    let mut weight = vec![0.0f64; n];
-    for (t, ids) in mesh.triangles.iter().enumerate() {
-        let g = TriangleGeometry::of(mesh, t);
-        let grad = g.gradient([
-            temperature[ids[0]],
-            temperature[ids[1]],
-            temperature[ids[2]],
-        ]);
-        let q = system.conductivity[mesh.material[t]].flux(grad);
-        for &v in ids {
-            let s = &mut sum[v];
-            s[0] += g.area * grad[0];
-            s[1] += g.area * grad[1];
-            s[2] += g.area * q[0];
-            s[3] += g.area * q[1];
-            weight[v] += g.area;
-        }
-        cell_gradient.push(grad);
-        cell_flux.push(q);
-    }
-    let mut nodal_gradient = Vec::with_capacity(n);
-    let mut nodal_flux = Vec::with_capacity(n);
-    for (s, &w) in sum.iter().zip(&weight) {
-        let w = if w > 0.0 { 1.0 / w } else { 0.0 };
-        nodal_gradient.push([s[0] * w, s[1] * w]);
-        nodal_flux.push([s[2] * w, s[3] * w]);
-    }
-
-    let boundaries = boundary_results(section, mesh, system, temperature)?;
-    let heat_source: f64 = system.cell_source.iter().sum();
-    let flow_sum: f64 = boundaries.iter().map(|b| b.heat_flow).sum();
-    let flow_abs: f64 = boundaries.iter().map(|b| b.heat_flow.abs()).sum();
-    let energy_imbalance = flow_sum + heat_source;
-    let denominator = flow_abs + heat_source.abs();
-    let energy_imbalance_relative = if denominator > 0.0 {
-        energy_imbalance.abs() / denominator
-    } else {
-        0.0
-    };
-
-    let t_min = extreme(mesh, temperature, |v, best| v < best);
-    let t_max = extreme(mesh, temperature, |v, best| v > best);
-
+    let field = field::gradients_and_fluxes(mesh, &system.conductivity, temperature);
+    let boundaries = flows::boundary_results(section, mesh, system, temperature)?;
+    let balance = flows::EnergyBalance::of(&boundaries, &system.cell_source);
+    let (t_min, t_max) = field::extremes(mesh, temperature);
     let mut warnings = Vec::new();
-    let locator = Locator::new(mesh);
-    let scalar: Vec<[f64; 1]> = temperature.iter().map(|&v| [v]).collect();
-
-    let mut probes = Vec::with_capacity(section.probes.len());
-    for (i, probe) in section.probes.iter().enumerate() {
-        let [x, y] = probe.at;
-        let placement = locator.place(section, probe.at);
-        let (at, snapped) = match placement {
-            Placement::Inside { .. } => (probe.at, false),
-            Placement::Snapped(q) => {
-                warnings.push(format!(
-                    "probes[{i}] \"{}\": point ({x}, {y}) lies {:e} m outside the discretised section; evaluated at the nearest boundary point ({}, {})",
-                    probe.name, q.distance, q.point[0], q.point[1]
-                ));
-                (q.point, true)
-            }
-            Placement::Outside { distance } => {
-                return Err(Error::input(format!(
-                    "probes[{i}] \"{}\": point ({x}, {y}) lies outside the section (nearest boundary point {distance} m away)",
-                    probe.name
-                )));
-            }
-        };
-        let [value] = locator
-            .interpolate(&placement, &scalar)
-            .ok_or_else(|| Error::run("internal error: probe placement"))?;
-        probes.push(ProbeResult {
-            name: probe.name.clone(),
-            at: probe.at,
-            x: at[0],
-            y: at[1],
-            temperature: value,
-            snapped,
-        });
-    }
-
-    let mut lines = Vec::with_capacity(section.lines.len());
-    for (i, line) in section.lines.iter().enumerate() {
-        let name = &line.name;
-        let finite = line.from.iter().chain(&line.to).all(|v| v.is_finite());
-        if line.samples == 0 || !finite {
-            return Err(Error::input(format!(
-                "lines[{i}] \"{name}\": needs finite end points and at least one sample"
-            )));
-        }
-        let d = [line.to[0] - line.from[0], line.to[1] - line.from[1]];
-        let length = (d[0] * d[0] + d[1] * d[1]).sqrt();
-        let mut samples = Vec::with_capacity(line.samples);
-        let mut skipped = Vec::new();
-        let mut snapped = 0usize;
-        let mut snapped_max = 0.0f64;
-        for k in 0..line.samples {
-            let f = if line.samples > 1 {
-                k as f64 / (line.samples - 1) as f64
-            } else {
-                0.0
-            };
-            let p = if k + 1 == line.samples && line.samples > 1 {
-                line.to
-            } else {
-                [line.from[0] + f * d[0], line.from[1] + f * d[1]]
-            };
-            let placement = locator.place(section, p);
-            if let Placement::Snapped(q) = placement {
-                snapped += 1;
-                snapped_max = snapped_max.max(q.distance);
-            }
-            let (Some([t]), Some([qx, qy])) = (
-                locator.interpolate(&placement, &scalar),
-                locator.interpolate(&placement, &nodal_flux),
-            ) else {
-                skipped.push((k, p));
-                continue;
-            };
-            samples.push(LineSample {
-                s: f * length,
-                x: p[0],
-                y: p[1],
-                temperature: t,
-                qx,
-                qy,
-            });
-        }
-        if samples.is_empty() {
-            return Err(Error::input(format!(
-                "lines[{i}] \"{name}\": none of its {} samples from ({}, {}) to ({}, {}) lies inside the section",
-                line.samples, line.from[0], line.from[1], line.to[0], line.to[1]
-            )));
-        }
-        if !skipped.is_empty() {
-            let (k0, p0) = skipped[0];
-            warnings.push(format!(
-                "lines[{i}] \"{name}\": {} of {} samples lie outside the section and were skipped (the first is sample {k0} at ({}, {}))",
-                skipped.len(),
-                line.samples,
-                p0[0],
-                p0[1]
-            ));
-        }
-        if snapped > 0 {
-            warnings.push(format!(
-                "lines[{i}] \"{name}\": {snapped} samples lie up to {snapped_max:e} m outside the discretised section and were evaluated at the nearest boundary point"
-            ));
-        }
-        lines.push(LineResult {
-            name: name.clone(),
-            samples,
-            skipped,
-        });
-    }
-
+    let sampler = sample::Sampler::new(section, mesh, temperature, &field.nodal_flux);
+    let probes = sampler.probes(&mut warnings)?;
+    let lines = sampler.lines(&mut warnings)?;
     Ok(Results {
         temperature: temperature.clone(),
-        cell_gradient,
-        cell_flux,
-        nodal_gradient,
-        nodal_flux,
+        cell_gradient: field.cell_gradient,
+        cell_flux: field.cell_flux,
+        nodal_gradient: field.nodal_gradient,
+        nodal_flux: field.nodal_flux,
         boundaries,
-        heat_source,
-        energy_imbalance,
-        energy_imbalance_relative,
+        heat_source: balance.heat_source,
+        energy_imbalance: balance.imbalance,
+        energy_imbalance_relative: balance.imbalance_relative,
         t_min,
         t_max,
         probes,
@@ -438,9 +247,29 @@ pub fn postprocess(
     })
 }
 
-pub mod estimate;
-mod locate;
-#[cfg(test)]
-mod tests;
-
-pub use locate::*;
+/// The mesh against the section ([`check_mesh`]), the sizes of system and solution against
+/// the mesh, and a finite solved field.
+fn check_inputs(
+    section: &Section,
+    mesh: &Mesh,
+    system: &System,
+    solution: &Solution,
+) -> Result<()> {
+    check_mesh(section, mesh)?;
+    let n = mesh.nodes.len();
+    if system.node_count() != n
+        || solution.temperature.len() != n
+        || system.cell_source.len() != mesh.triangles.len()
+        || system.conductivity.len() != section.materials.len()
+    {
+        return Err(Error::run(
+            "internal error: mesh, system and solution disagree in size",
+        ));
+    }
+    if let Some(i) = solution.temperature.iter().position(|v| !v.is_finite()) {
+        return Err(Error::run(format!(
+            "the solved temperature at node {i} is not finite"
+        )));
+    }
+    Ok(())
+}

@@ -4,11 +4,11 @@ use super::*;
 use crate::fem::assemble;
 use crate::fem::testutil::{rectangle_mesh, rectangle_section};
 use crate::model::{Circle, Line, Probe};
-use crate::solve::solve;
+use crate::solve::{Solution, solve_system};
 
 fn run(section: &Section, mesh: &Mesh) -> (System, Solution, Results) {
     let system = assemble(section, mesh).unwrap();
-    let solution = solve(&system).unwrap();
+    let solution = solve_system(&system).unwrap();
     let results = postprocess(section, mesh, &system, &solution).unwrap();
     (system, solution, results)
 }
@@ -240,7 +240,7 @@ fn probes_inside_snapped_and_outside() {
 
     section.probes.push(probe("far", -1.0, 0.2));
     let system = assemble(&section, &mesh).unwrap();
-    let solution = solve(&system).unwrap();
+    let solution = solve_system(&system).unwrap();
     let err = postprocess(&section, &mesh, &system, &solution).unwrap_err();
     assert_eq!(
         err,
@@ -255,7 +255,7 @@ fn probe_within_the_sagitta_of_a_circular_ring_is_snapped() {
     let (mut section, mesh) = slab();
     section.probes = vec![probe("p", -0.05, 0.2)];
     let system = assemble(&section, &mesh).unwrap();
-    let solution = solve(&system).unwrap();
+    let solution = solve_system(&system).unwrap();
     assert!(matches!(
         postprocess(&section, &mesh, &system, &solution),
         Err(Error::Input(_))
@@ -388,4 +388,29 @@ fn million_triangles_end_to_end() {
     assert_eq!(mesh.triangles.len(), 2 * 708 * 708);
     assert!(solution.residual_relative < 1e-10);
     assert!(results.energy_imbalance_relative < 1e-10);
+}
+
+#[test]
+fn condition_kind_serialises_and_displays_as_the_model_file_name() {
+    for (kind, name) in [
+        (ConditionKind::Fixed, "fixed"),
+        (ConditionKind::Insulated, "insulated"),
+        (ConditionKind::Flux, "flux"),
+        (ConditionKind::Convection, "convection"),
+    ] {
+        assert_eq!(serde_json::to_value(kind).unwrap(), name);
+        assert_eq!(kind.to_string(), name);
+    }
+    assert_eq!(format!("[{:<6}]", ConditionKind::Flux), "[flux  ]");
+    let (section, mesh) = slab();
+    let (_, _, results) = run(&section, &mesh);
+    let kinds: Vec<_> = results.boundaries.iter().map(|b| b.kind).collect();
+    assert_eq!(
+        kinds,
+        [
+            ConditionKind::Fixed,
+            ConditionKind::Fixed,
+            ConditionKind::Insulated
+        ]
+    );
 }

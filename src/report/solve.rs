@@ -38,7 +38,7 @@ fn boundaries_table(o: &mut String, r: &Results) {
     for b in &r.boundaries {
         t.add_row(vec![
             b.name.clone(),
-            b.kind.clone(),
+            b.kind.as_str().to_string(),
             fixed(b.length, 6),
             fixed(b.heat_flow, 6),
             fixed(b.mean_temperature, 4),

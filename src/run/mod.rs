@@ -148,7 +148,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let t1 = Instant::now();
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
-    let solution = solve::solve(&system)?;
+    let solution = solve::solve_system(&system)?;
     let t3 = Instant::now();
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;

@@ -1,0 +1,226 @@
+//! Assembly of the global system in sprs storage: the matrix (conduction of every triangle,
+//! film term of every convection edge), the load vector and Dirichlet values of a
+//! [`LoadCase`], and the sparse product used for residuals.
+//!
+//! Assembly is a single pass over triangles and edges (triplets, summed in a fixed order), so
+//! results are deterministic.
+
+use super::checks::{check_load_case, check_mesh};
+use super::element::{Conductivity, TriangleGeometry};
+use crate::error::{Error, Result};
+use crate::mesh::{BoundaryEdge, Mesh};
+use crate::model::{BoundaryKind, Section};
+use sprs::{CsMat, TriMat};
+
+/// The values of one load case. Boundary kinds and film coefficients belong to the matrix and
+/// are taken from the section; a load case only supplies the numbers that enter the right-hand
+/// side.
+///
+/// Today only the tests build load cases other than the model file's own; a later change gives
+/// them a command-line interface.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoadCase {
+    /// Per boundary id: the fixed temperature (°C) for a fixed boundary, the imposed flux (W/m²,
+    /// positive into the section) for a flux boundary, the ambient temperature (°C) for a
+    /// convection boundary; ignored for an insulated boundary.
+    pub boundary_value: Vec<f64>,
+    /// Per material id, W/m³.
+    pub heat_source: Vec<f64>,
+}
+
+impl LoadCase {
+    /// The load case written in the model file.
+    pub fn from_section(section: &Section) -> Self {
+        let boundary_value = section
+            .boundaries
+            .iter()
+            .map(|b| match b.kind {
+                BoundaryKind::Fixed { temperature } => temperature,
+                BoundaryKind::Insulated => 0.0,
+                BoundaryKind::Flux { flux } => flux,
+                BoundaryKind::Convection { ambient, .. } => ambient,
+            })
+            .collect();
+        let heat_source = section.materials.iter().map(|m| m.heat_source).collect();
+        LoadCase {
+            boundary_value,
+            heat_source,
+        }
+    }
+}
+
+/// The right-hand side of one load case.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Load {
+    /// Full load vector (all nodes, fixed ones included), W/m.
+    pub vector: Vec<f64>,
+    /// Dirichlet value per node, °C; `None` for a free node.
+    pub fixed: Vec<Option<f64>>,
+    /// Heat generated in each triangle, `Q·A`, W/m.
+    pub cell_source: Vec<f64>,
+}
+
+/// Conductivity tensor of every material, in material-id order. The values were validated by
+/// the model stage (positive and finite).
+pub fn material_conductivity(section: &Section) -> Vec<Conductivity> {
+    section
+        .materials
+        .iter()
+        .map(|m| Conductivity::isotropic(m.conductivity))
+        .collect()
+}
+
+/// Assembles the full matrix: conduction of every triangle and the film term of every
+/// convection edge. Depends on the mesh, conductivities, boundary kinds and film coefficients
+/// only. The mesh is checked first ([`check_mesh`]).
+pub fn assemble_matrix(section: &Section, mesh: &Mesh) -> Result<CsMat<f64>> {
+    check_mesh(section, mesh)?;
+    Ok(matrix(section, mesh, &material_conductivity(section)))
+}
+
+/// Assembles the load vector and the Dirichlet values of one load case, after checking the
+/// mesh and the load case.
+///
+/// A node on fixed edges of two or more different fixed boundaries takes the arithmetic mean
+/// of those boundaries' temperatures (each boundary counted once).
+pub fn assemble_load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Result<Load> {
+    check_mesh(section, mesh)?;
+    check_load_case(section, case)?;
+    Ok(load(section, mesh, case))
+}
+
+/// The matrix of a checked mesh: triangle conduction, then edge film terms, summed by sprs.
+pub(crate) fn matrix(section: &Section, mesh: &Mesh, conductivity: &[Conductivity]) -> CsMat<f64> {
+    let n = mesh.nodes.len();
+    let mut tri = TriMat::with_capacity(
+        (n, n),
+        9 * mesh.triangles.len() + 4 * mesh.boundary_edges.len(),
+    );
+    add_conduction(&mut tri, mesh, conductivity);
+    add_film_terms(&mut tri, section, mesh);
+    tri.to_csr()
+}
+
+/// Element conduction matrices `A·Bᵀ·D·B` of every triangle.
+fn add_conduction(tri: &mut TriMat<f64>, mesh: &Mesh, conductivity: &[Conductivity]) {
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let ke = TriangleGeometry::of(mesh, t).conduction(&conductivity[mesh.material[t]]);
+        for i in 0..3 {
+            for j in 0..3 {
+                tri.add_triplet(ids[i], ids[j], ke[(i, j)]);
+            }
+        }
+    }
+}
+
+/// Film term `h·L/6·[[2, 1], [1, 2]]` of every convection edge.
+fn add_film_terms(tri: &mut TriMat<f64>, section: &Section, mesh: &Mesh) {
+    for (e, h) in convection_edges(section, mesh) {
+        let l = mesh.edge_length(e);
+        let d = h * l / 3.0;
+        let o = h * l / 6.0;
+        let [a, b] = e.nodes;
+        tri.add_triplet(a, a, d);
+        tri.add_triplet(b, b, d);
+        tri.add_triplet(a, b, o);
+        tri.add_triplet(b, a, o);
+    }
+}
+
+/// The boundary edges of convection boundaries with their film coefficient, W/(m²·K).
+fn convection_edges<'m>(
+    section: &'m Section,
+    mesh: &'m Mesh,
+) -> impl Iterator<Item = (&'m BoundaryEdge, f64)> + 'm {
+    mesh.boundary_edges
+        .iter()
+        .filter_map(|e| match section.boundaries[e.boundary?].kind {
+            BoundaryKind::Convection { h, .. } => Some((e, h)),
+            _ => None,
+        })
+}
+
+/// The load of a checked mesh and load case: sources per triangle, fluxes and ambient terms
+/// per edge, Dirichlet values per fixed node.
+pub(crate) fn load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Load {
+    let n = mesh.nodes.len();
+    let mut vector = vec![0.0; n];
+    let cell_source = add_sources(&mut vector, mesh, case);
+    add_edge_loads(&mut vector, section, mesh, case);
+    Load {
+        vector,
+        fixed: fixed_values(section, mesh, case),
+        cell_source,
+    }
+}
+
+/// Uniform source `Q·A/3` per triangle node; returns `Q·A` per triangle.
+fn add_sources(vector: &mut [f64], mesh: &Mesh, case: &LoadCase) -> Vec<f64> {
+    let mut cell_source = vec![0.0; mesh.triangles.len()];
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let q = case.heat_source[mesh.material[t]];
+        if q != 0.0 {
+            let total = q * TriangleGeometry::of(mesh, t).area;
+            cell_source[t] = total;
+            for &v in ids {
+                vector[v] += total / 3.0;
+            }
+        }
+    }
+    cell_source
+}
+
+/// Imposed flux `q·L/2` and convection `h·T∞·L/2` per edge node (positive into the section).
+fn add_edge_loads(vector: &mut [f64], section: &Section, mesh: &Mesh, case: &LoadCase) {
+    for e in &mesh.boundary_edges {
+        let Some(id) = e.boundary else { continue };
+        let per_node = match section.boundaries[id].kind {
+            BoundaryKind::Flux { .. } => case.boundary_value[id],
+            BoundaryKind::Convection { h, .. } => h * case.boundary_value[id],
+            BoundaryKind::Fixed { .. } | BoundaryKind::Insulated => continue,
+        };
+        let l = mesh.edge_length(e);
+        for &v in &e.nodes {
+            vector[v] += per_node * l / 2.0;
+        }
+    }
+}
+
+/// Dirichlet value per node: the mean of the temperatures of the distinct fixed boundaries
+/// whose edges touch it.
+fn fixed_values(section: &Section, mesh: &Mesh, case: &LoadCase) -> Vec<Option<f64>> {
+    let mut fixed_pairs: Vec<(usize, usize)> = Vec::new();
+    for e in &mesh.boundary_edges {
+        let Some(id) = e.boundary else { continue };
+        if let BoundaryKind::Fixed { .. } = section.boundaries[id].kind {
+            fixed_pairs.push((e.nodes[0], id));
+            fixed_pairs.push((e.nodes[1], id));
+        }
+    }
+    fixed_pairs.sort_unstable();
+    fixed_pairs.dedup();
+    let mut fixed = vec![None; mesh.nodes.len()];
+    for group in fixed_pairs.chunk_by(|a, b| a.0 == b.0) {
+        let sum = group
+            .iter()
+            .fold(0.0, |s, &(_, id)| s + case.boundary_value[id]);
+        fixed[group[0].0] = Some(sum / group.len() as f64);
+    }
+    fixed
+}
+
+/// `A·x` for a CSR matrix (sprs' product: rows in order, entries of a row in stored order).
+pub(crate) fn mat_vec(a: &CsMat<f64>, x: &[f64]) -> Result<Vec<f64>> {
+    if !a.is_csr() || a.cols() != x.len() {
+        return Err(Error::run(format!(
+            "internal error: product of a {}×{} {} matrix with a vector of length {}",
+            a.rows(),
+            a.cols(),
+            if a.is_csr() { "CSR" } else { "CSC" },
+            x.len()
+        )));
+    }
+    let mut y = vec![0.0; a.rows()];
+    sprs::prod::mul_acc_mat_vec_csr(a.view(), x, &mut y[..]);
+    Ok(y)
+}

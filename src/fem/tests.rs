@@ -1,0 +1,157 @@
+//! Unit tests of the fem stage.
+
+use super::testutil::{rectangle_mesh, rectangle_section};
+use super::*;
+use crate::error::Error;
+use crate::model::BoundaryKind;
+
+#[test]
+fn model_without_fixed_or_convective_edge_is_refused() {
+    let tags = [Some(0), Some(1), Some(0), Some(0)];
+    let section = rectangle_section(
+        1.0,
+        1.0,
+        &[("m", 1.0, 5.0)],
+        &[
+            ("heater", BoundaryKind::Flux { flux: 10.0 }),
+            ("wall", BoundaryKind::Insulated),
+        ],
+        tags,
+    );
+    let mesh = rectangle_mesh(1.0, 1.0, 3, 3, tags, |_| 0);
+    assert_eq!(
+        assemble(&section, &mesh),
+        Err(Error::input(SINGULAR_MODEL_MESSAGE))
+    );
+}
+
+#[test]
+fn disconnected_part_without_anchor_is_refused() {
+    let tags = [Some(0), None, None, None];
+    let section = rectangle_section(
+        1.0,
+        1.0,
+        &[("m", 1.0, 0.0)],
+        &[("base", BoundaryKind::Fixed { temperature: 0.0 })],
+        tags,
+    );
+    let mut mesh = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    let other = rectangle_mesh(1.0, 1.0, 2, 2, [None; 4], |_| 0);
+    let (n0, t0) = (mesh.nodes.len(), mesh.triangles.len());
+    mesh.nodes
+        .extend(other.nodes.iter().map(|p| [p[0] + 5.0, p[1]]));
+    mesh.triangles
+        .extend(other.triangles.iter().map(|t| t.map(|v| v + n0)));
+    mesh.material.extend(&other.material);
+    mesh.boundary_edges
+        .extend(other.boundary_edges.iter().map(|e| {
+            let mut e = *e;
+            e.nodes = e.nodes.map(|v| v + n0);
+            e.triangle += t0;
+            e
+        }));
+    let err = assemble(&section, &mesh).unwrap_err();
+    assert!(
+        matches!(&err, Error::Input(m) if m.contains("(5, 0)")),
+        "{err:?}"
+    );
+}
+
+#[test]
+fn inconsistent_mesh_is_a_run_error_not_a_panic() {
+    let tags = [Some(0); 4];
+    let section = rectangle_section(
+        1.0,
+        1.0,
+        &[("m", 1.0, 0.0)],
+        &[("t", BoundaryKind::Fixed { temperature: 0.0 })],
+        tags,
+    );
+    let mut mesh = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    mesh.triangles[3].swap(0, 1);
+    assert!(matches!(assemble(&section, &mesh), Err(Error::Run(_))));
+    let mut mesh = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    mesh.boundary_edges[0].boundary = Some(7);
+    assert!(matches!(assemble(&section, &mesh), Err(Error::Run(_))));
+    let mut mesh = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    mesh.nodes.push([0.5, 0.5]);
+    assert!(matches!(assemble(&section, &mesh), Err(Error::Run(_))));
+}
+
+#[test]
+fn matrix_is_symmetric_and_conduction_conserves_heat() {
+    let tags = [Some(0), Some(1), Some(2), None];
+    let section = rectangle_section(
+        1.5,
+        0.7,
+        &[("a", 2.0, 100.0), ("b", 0.3, 0.0)],
+        &[
+            (
+                "air",
+                BoundaryKind::Convection {
+                    h: 8.0,
+                    ambient: 15.0,
+                },
+            ),
+            ("base", BoundaryKind::Fixed { temperature: 60.0 }),
+            ("sun", BoundaryKind::Flux { flux: 300.0 }),
+        ],
+        tags,
+    );
+    let mesh = rectangle_mesh(1.5, 0.7, 6, 5, tags, |c| usize::from(c[1] > 0.35));
+    let system = assemble(&section, &mesh).unwrap();
+    let k = &system.matrix;
+    for (i, row) in k.outer_iterator().enumerate() {
+        for (j, v) in row.iter() {
+            assert_eq!(Some(v), k.get(j, i));
+        }
+    }
+    // A uniform field conducts no heat: K·1 is the film term only, Σ h·L over the
+    // convective (bottom) side = 8 · 1.5.
+    let ones = vec![1.0; mesh.nodes.len()];
+    let k1: f64 = mat_vec(k, &ones).unwrap().iter().sum();
+    assert!((k1 - 8.0 * 1.5).abs() < 1e-12);
+    // Σ f = Σ Q·A + Σ q·L + Σ h·T∞·L (material a fills y < 0.35).
+    let f: f64 = system.load.iter().sum();
+    let expected = 100.0 * 1.5 * 0.35 + 300.0 * 1.5 + 8.0 * 15.0 * 1.5;
+    assert!((f - expected).abs() < 1e-11 * expected);
+    let base: Vec<usize> = (0..mesh.nodes.len())
+        .filter(|&i| mesh.nodes[i][0] == 1.5)
+        .collect();
+    assert_eq!(base.len(), 6);
+    assert!(base.iter().all(|&i| system.fixed[i] == Some(60.0)));
+    assert_eq!(system.fixed.iter().filter(|f| f.is_some()).count(), 6);
+}
+
+#[test]
+fn mesh_consistency_names_the_offending_item() {
+    let tags = [Some(0); 4];
+    let section = rectangle_section(
+        1.0,
+        1.0,
+        &[("m", 1.0, 0.0)],
+        &[("t", BoundaryKind::Fixed { temperature: 0.0 })],
+        tags,
+    );
+    let message = |mesh: &Mesh| match check_mesh(&section, mesh) {
+        Err(Error::Run(m)) => m,
+        other => panic!("expected a run error, got {other:?}"),
+    };
+    let good = rectangle_mesh(1.0, 1.0, 2, 2, tags, |_| 0);
+    assert_eq!(check_mesh(&section, &good), Ok(()));
+    let mut mesh = good.clone();
+    mesh.triangles[2][1] = 99;
+    assert!(message(&mesh).contains("triangle 2 refers to node 99"));
+    let mut mesh = good.clone();
+    mesh.material.pop();
+    assert!(message(&mesh).contains("7 material ids for 8 triangles"));
+    let mut mesh = good.clone();
+    mesh.boundary_edges[3].triangle = 8;
+    assert!(message(&mesh).contains("boundary edge 3 refers to triangle 8"));
+    let mut mesh = good.clone();
+    mesh.material[5] = 1;
+    assert!(message(&mesh).contains("triangle 5 has material id 1"));
+    let mut mesh = good;
+    mesh.boundary_edges[0].boundary = Some(4);
+    assert!(message(&mesh).contains("boundary edge 0 has boundary id 4"));
+}

@@ -1,0 +1,85 @@
+//! The solved field per triangle and per node: constant gradients and heat fluxes of each
+//! triangle, their area-weighted recovery at the nodes, and the temperature extremes.
+
+use super::Extreme;
+use crate::fem::{Conductivity, TriangleGeometry};
+use crate::mesh::Mesh;
+use nalgebra::{Vector2, Vector3};
+
+/// Gradients and heat fluxes of a solved field.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Field {
+    /// K/m per triangle.
+    pub cell_gradient: Vec<[f64; 2]>,
+    /// W/m² per triangle, q = −k∇T.
+    pub cell_flux: Vec<[f64; 2]>,
+    /// Recovered per node (area-weighted average of the adjacent triangles), K/m.
+    pub nodal_gradient: Vec<[f64; 2]>,
+    /// Recovered per node, W/m².
+    pub nodal_flux: Vec<[f64; 2]>,
+}
+
+/// Gradient and flux of every triangle, recovered per node by area weighting. The mesh must
+/// have been checked ([`crate::fem::check_mesh`]) and `conductivity` must hold every material
+/// id of the mesh.
+pub fn gradients_and_fluxes(
+    mesh: &Mesh,
+    conductivity: &[Conductivity],
+    temperature: &[f64],
+) -> Field {
+    let (n, nt) = (mesh.nodes.len(), mesh.triangles.len());
+    let mut cell_gradient = Vec::with_capacity(nt);
+    let mut cell_flux = Vec::with_capacity(nt);
+    // Per node: Σ A·∇T, Σ A·q, Σ A.
+    let mut sum_gradient = vec![Vector2::zeros(); n];
+    let mut sum_flux = vec![Vector2::zeros(); n];
+    let mut weight = vec![0.0f64; n];
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let g = TriangleGeometry::of(mesh, t);
+        let grad = g.gradient(Vector3::from(ids.map(|v| temperature[v])));
+        let q = conductivity[mesh.material[t]].flux(grad);
+        for &v in ids {
+            sum_gradient[v] += grad * g.area;
+            sum_flux[v] += q * g.area;
+            weight[v] += g.area;
+        }
+        cell_gradient.push(grad.into());
+        cell_flux.push(q.into());
+    }
+    let mut nodal_gradient = Vec::with_capacity(n);
+    let mut nodal_flux = Vec::with_capacity(n);
+    for ((sg, sq), &w) in sum_gradient.iter().zip(&sum_flux).zip(&weight) {
+        let w = if w > 0.0 { 1.0 / w } else { 0.0 };
+        nodal_gradient.push((sg * w).into());
+        nodal_flux.push((sq * w).into());
+    }
+    Field {
+        cell_gradient,
+        cell_flux,
+        nodal_gradient,
+        nodal_flux,
+    }
+}
+
+/// Lowest and highest nodal temperature, each at the first node where it occurs. The mesh and
+/// the field must be non-empty and of the same length.
+pub fn extremes(mesh: &Mesh, temperature: &[f64]) -> (Extreme, Extreme) {
+    (
+        extreme(mesh, temperature, |v, best| v < best),
+        extreme(mesh, temperature, |v, best| v > best),
+    )
+}
+
+fn extreme(mesh: &Mesh, t: &[f64], better: impl Fn(f64, f64) -> bool) -> Extreme {
+    let mut node = 0;
+    for (i, &v) in t.iter().enumerate() {
+        if better(v, t[node]) {
+            node = i;
+        }
+    }
+    Extreme {
+        value: t[node],
+        node,
+        at: mesh.nodes[node],
+    }
+}

@@ -1,0 +1,108 @@
+//! The direct solver: sparse Cholesky factorisation by faer (AMD ordering, sequential), and
+//! the one conversion of a matrix from sprs storage into faer's ([`to_faer`]).
+
+use super::LinearSolver;
+use crate::error::{Error, Result};
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::linalg::cholesky::llt::factor::LltParams;
+use faer::sparse::linalg::cholesky::{
+    CholeskySymbolicParams, LltRef, SymbolicCholesky, SymmetricOrdering,
+    factorize_symbolic_cholesky,
+};
+use faer::sparse::{SparseColMat, SymbolicSparseColMat};
+use faer::{Conj, MatMut, Par, Side, Spec};
+use sprs::CsMat;
+
+/// The matrix `a` (square, symmetric, both triangles stored, CSR or CSC) in faer's
+/// compressed-column storage. For a symmetric matrix the CSR arrays are the CSC arrays, so
+/// this is a copy of sprs' three arrays; sprs guarantees what faer checks (monotone pointers,
+/// sorted in-range indices).
+pub fn to_faer(a: &CsMat<f64>) -> Result<SparseColMat<usize, f64>> {
+    let n = a.rows();
+    if a.cols() != n {
+        return Err(Error::run(format!(
+            "internal error: Cholesky of a non-square {n}×{} matrix",
+            a.cols()
+        )));
+    }
+    let col_ptr = a.indptr().to_proper().into_owned();
+    let symbolic = SymbolicSparseColMat::new_checked(n, n, col_ptr, None, a.indices().to_vec());
+    Ok(SparseColMat::new(symbolic, a.data().to_vec()))
+}
+
+/// Sparse Cholesky factorisation `A = L·Lᵀ` (faer, AMD ordering), sequential.
+#[derive(Debug)]
+pub struct SparseCholesky {
+    symbolic: SymbolicCholesky<usize>,
+    values: Vec<f64>,
+}
+
+impl SparseCholesky {
+    /// Factorises a symmetric matrix stored with both triangles (CSR or CSC with sorted
+    /// indices); only its lower triangle is read. Steps: convert ([`to_faer`]), symbolic
+    /// analysis, numeric factorisation.
+    pub fn factorize(a: &CsMat<f64>) -> Result<Self> {
+        let n = a.rows();
+        let matrix = to_faer(a)?;
+        let fail = |what: &str| {
+            Error::run(format!(
+                "sparse Cholesky factorisation failed ({what}); the reduced conduction matrix of order {n} is not numerically positive definite — check for extreme conductivity or film coefficient ratios"
+            ))
+        };
+        let symbolic = factorize_symbolic_cholesky(
+            matrix.symbolic(),
+            Side::Lower,
+            SymmetricOrdering::Amd,
+            CholeskySymbolicParams::default(),
+        )
+        .map_err(|e| fail(&format!("symbolic analysis: {e:?}")))?;
+        let mut values = Vec::new();
+        values
+            .try_reserve_exact(symbolic.len_val())
+            .map_err(|_| fail("out of memory for the factor"))?;
+        values.resize(symbolic.len_val(), 0.0);
+        let params: Spec<LltParams, f64> = Default::default();
+        let mut buffer =
+            MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(Par::Seq, params))
+                .map_err(|_| fail("out of memory for the workspace"))?;
+        symbolic
+            .factorize_numeric_llt(
+                &mut values,
+                matrix.as_ref(),
+                Side::Lower,
+                Default::default(),
+                Par::Seq,
+                MemStack::new(&mut buffer),
+                params,
+            )
+            .map_err(|e| fail(&format!("{e:?}")))?;
+        Ok(SparseCholesky { symbolic, values })
+    }
+}
+
+impl LinearSolver for SparseCholesky {
+    fn name(&self) -> &'static str {
+        "sparse Cholesky"
+    }
+
+    fn dim(&self) -> usize {
+        self.symbolic.nrows()
+    }
+
+    fn solve_in_place(&self, rhs: &mut [f64]) -> Result<()> {
+        let n = self.dim();
+        if rhs.len() != n {
+            return Err(Error::run(format!(
+                "internal error: right-hand side of length {} for a matrix of order {n}",
+                rhs.len()
+            )));
+        }
+        let mut buffer =
+            MemBuffer::try_new(self.symbolic.solve_in_place_scratch::<f64>(1, Par::Seq))
+                .map_err(|_| Error::run("out of memory for the Cholesky solve workspace"))?;
+        let llt = LltRef::new(&self.symbolic, &self.values);
+        let x = MatMut::from_column_major_slice_mut(rhs, n, 1);
+        llt.solve_in_place_with_conj(Conj::No, x, Par::Seq, MemStack::new(&mut buffer));
+        Ok(())
+    }
+}
