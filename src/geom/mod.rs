@@ -4,6 +4,8 @@
 //! Nothing here knows about models or meshes; the stages above call these instead of writing
 //! their own.
 
+pub mod index;
+
 /// A point `[x, y]`, m.
 pub type Point = [f64; 2];
 
