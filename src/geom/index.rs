@@ -141,7 +141,9 @@ mod tests {
     fn segments(n: usize) -> Vec<(Point, Point)> {
         let mut s = 12345u64;
         let mut next = || {
-            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            s = s
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
             (s >> 11) as f64 / (1u64 << 53) as f64
         };
         (0..n)
@@ -176,12 +178,13 @@ mod tests {
         for k in 0..50 {
             let p = [k as f64 * 0.21 - 0.5, (k % 7) as f64 * 0.8];
             let d = |i: usize| project(segs[i].0, segs[i].1, p).1;
-            let scan = (0..segs.len())
-                .map(|i| (i, d(i)))
-                .fold(None, |b: Option<(usize, f64)>, (i, x)| match b {
-                    Some((_, bd)) if bd <= x => b,
-                    _ => Some((i, x)),
-                });
+            let scan =
+                (0..segs.len())
+                    .map(|i| (i, d(i)))
+                    .fold(None, |b: Option<(usize, f64)>, (i, x)| match b {
+                        Some((_, bd)) if bd <= x => b,
+                        _ => Some((i, x)),
+                    });
             assert_eq!(index.nearest(p, d), scan);
         }
         // Two identical items: the lower index wins.

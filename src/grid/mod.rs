@@ -27,6 +27,7 @@
 //! The Shortley–Weller rows are not symmetric, so the system is solved by sparse LU.
 
 use crate::error::{Error, Result};
+use crate::geom;
 use crate::geometry::{self, Classifier};
 use crate::model::{BoundaryKind, Section};
 use std::collections::BTreeMap;
@@ -412,7 +413,7 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             let mut fixed: Vec<usize> = Vec::new();
             for &s in &near {
                 let sg = &segs[s as usize];
-                if geometry::project(sg.a, sg.b, p).1 <= tol {
+                if geom::project(sg.a, sg.b, p).1 <= tol {
                     on_boundary = true;
                     if let (Some(id), Some(_)) = (sg.boundary, fixed_temp(sg.boundary)) {
                         fixed.push(id);
@@ -604,8 +605,7 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
                 );
                 if let Some(&s) = near.iter().find(|&&s| {
                     let sg = &segs[s as usize];
-                    geometry::project(sg.a, sg.b, m).1 <= tol
-                        && geometry::project(sg.a, sg.b, p).1 <= tol
+                    geom::project(sg.a, sg.b, m).1 <= tol && geom::project(sg.a, sg.b, p).1 <= tol
                 }) {
                     shares.push(EdgeShare {
                         boundary: segs[s as usize].boundary,

@@ -81,7 +81,7 @@ impl Mesh {
 }
 
 use crate::error::{Error, Result};
-use crate::geometry::{self, Pslg, Zone};
+use crate::geometry::{Pslg, Zone};
 use crate::model::Section;
 use spade::handles::{FaceHandle, FixedVertexHandle, InnerTag};
 use spade::{
@@ -895,7 +895,7 @@ fn extract(
     };
     for (t, tri) in triangles.iter().enumerate() {
         let p = [nodes[tri[0]], nodes[tri[1]], nodes[tri[2]]];
-        let a = 0.5 * geometry::orient(p[0], p[1], p[2]);
+        let a = crate::geom::triangle_area(p[0], p[1], p[2]);
         stats.area += a;
         stats.max_area = stats.max_area.max(a);
         stats.min_area = stats.min_area.min(a);
