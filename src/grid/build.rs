@@ -524,9 +524,9 @@ fn links(b: &Builder, nodes: &Nodes) -> Result<Links> {
         let arms = arms(b, node, &nodes.node_at, &mut near)?;
         let (g, q) = conductances(b, node, &arms.len);
         let mut any_cut = false;
-        for d in 0..4 {
-            if let Some(c) = arms.cut[d]
-                && g[d] > 0.0
+        for (d, (cut, &gd)) in arms.cut.iter().zip(&g).enumerate() {
+            if let Some(c) = *cut
+                && gd > 0.0
             {
                 out.cuts.insert((n, d), c);
                 any_cut = true;

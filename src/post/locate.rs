@@ -33,14 +33,19 @@ pub struct BoundaryPoint {
 pub enum Placement {
     /// Inside triangle `triangle` with these barycentric coordinates.
     Inside {
+        /// Index into `Mesh::triangles`.
         triangle: usize,
+        /// Barycentric coordinates of the point in the triangle.
         barycentric: [f64; 3],
     },
     /// Just outside the discretised section (within the snap tolerance): evaluate at the
     /// nearest boundary point.
     Snapped(BoundaryPoint),
     /// Farther outside; `distance` to the nearest boundary point, m (infinite without edges).
-    Outside { distance: f64 },
+    Outside {
+        /// m
+        distance: f64,
+    },
 }
 
 /// Point location in a mesh: R-trees over triangle and boundary-edge bounding boxes (built on
