@@ -6,8 +6,8 @@
 //! resulting piece knows the zone on either side — void (outside or in a hole), the outline's
 //! material, or a region — and, on the section boundary, its boundary name.
 //!
-//! This file holds the PSLG types and the build's sequence of steps; [`segments`] finds the
-//! contacts and snaps the vertices, [`classify`] locates points against the rings.
+//! This file holds the PSLG types and the build's sequence of steps; `segments` finds the
+//! contacts and snaps the vertices, `classify` locates points against the rings.
 
 mod classify;
 mod segments;

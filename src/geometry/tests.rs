@@ -41,10 +41,7 @@ fn region_sharing_the_base_splits_the_outline_at_its_corners() {
     // Base, two split sides of two pieces each, top: 6 boundary pieces; 1 interface.
     assert_eq!(boundary.len(), 6);
     assert_eq!(interface.len(), 1);
-    let len = |x: &Piece| {
-        let (a, b) = (p.vertices[x.v[0]], p.vertices[x.v[1]]);
-        ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2)).sqrt()
-    };
+    let len = |x: &Piece| dist(p.vertices[x.v[0]], p.vertices[x.v[1]]);
     assert!((len(interface[0]) - 4.0).abs() < 1e-12);
     // The base piece has the region (zone 1) inside and keeps the outline's name.
     let bottom = s.boundaries.iter().position(|b| b.name == "bottom");
@@ -107,4 +104,29 @@ fn point_in_ring_and_projection() {
     assert!(!point_in_ring(&sq, [1.5, 0.5]));
     let (t, d) = project([0.0, 0.0], [2.0, 0.0], [1.0, 1.0]);
     assert!((t - 0.5).abs() < 1e-15 && (d - 1.0).abs() < 1e-15);
+}
+
+#[test]
+fn crossing_found_by_the_box_index_splits_both_segments() {
+    // A region whose sides cross the outline's top and right side away from any vertex: the
+    // candidate pairs come from the R-tree of segment boxes, the crossing from the exact
+    // orientation signs; the crossing points must become shared vertices on both rings.
+    let s = section(&format!(
+        "{BASE}[[regions]]\nmaterial = \"b\"\npoints = [[1.0, 1.0], [5.0, 1.5], [1.5, 3.0]]\n"
+    ));
+    let p = build(&s).unwrap();
+    // Crossings with x = 4 (at y = 1.375 and y = 1.5 + 1.5/3.5) and with y = 2 (at x = 5 − 3.5/3
+    // and x = 1.25).
+    let on_right = p
+        .vertices
+        .iter()
+        .filter(|v| (v[0] - 4.0).abs() < 1e-12 && v[1] > 0.0 && v[1] < 2.0)
+        .count();
+    let on_top = p
+        .vertices
+        .iter()
+        .filter(|v| (v[1] - 2.0).abs() < 1e-12 && v[0] > 0.0 && v[0] < 4.0)
+        .count();
+    assert_eq!((on_right, on_top), (2, 2));
+    assert!(p.warnings.iter().any(|w| w.contains("regions[0]")));
 }

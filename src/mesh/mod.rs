@@ -3,13 +3,13 @@
 //! (hole or material), the geometric mapping of every final boundary edge back to its boundary
 //! name, and quality statistics.
 //!
-//! This file holds the mesh types, the options and the entry points; [`mesher`] triangulates
+//! This file holds the mesh types, the options and the entry points; `mesher` triangulates
 //! and refines, `classify` finds the zone of every triangle, `extract` builds the [`Mesh`],
 //! `quality` computes its statistics.
 
 mod classify;
 mod extract;
-pub mod mesher;
+mod mesher;
 mod quality;
 
 pub use mesher::Mesher;
