@@ -101,7 +101,7 @@ fn boundary_edges_map_back_to_their_names() {
         assert!(t.contains(&e.nodes[0]) && t.contains(&e.nodes[1]));
         let c = centroid(&m, e.triangle);
         let (a, b) = (m.nodes[e.nodes[0]], m.nodes[e.nodes[1]]);
-        assert!(xsheat::geometry::orient(a, b, c) > 0.0);
+        assert!(xsheat::geom::orient(a, b, c) > 0.0);
     }
     assert!((len[&id("bottom")] - 4.0).abs() < 1e-12);
     assert!((len[&id("top")] - 4.0).abs() < 1e-12);

@@ -4,6 +4,8 @@
 //! Nothing here knows about models or meshes; the stages above call these instead of writing
 //! their own.
 
+pub mod index;
+
 /// A point `[x, y]`, m.
 pub type Point = [f64; 2];
 
@@ -43,10 +45,12 @@ pub fn polygon_area(points: &[Point]) -> f64 {
     0.5 * s
 }
 
-/// Euclidean distance between two points, m.
+/// Euclidean distance between two points, m. Computed as the square root of the sum of
+/// squares (not `hypot`, which rounds differently in about one case in six): the stages' own
+/// distance helpers did so, and the meshes and output files stay bit-identical with it.
 #[inline]
 pub fn distance(a: Point, b: Point) -> f64 {
-    (a[0] - b[0]).hypot(a[1] - b[1])
+    ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2)).sqrt()
 }
 
 /// Point at parameter `t` on the segment `a → b` (`t = 0` at `a`, `t = 1` at `b`).

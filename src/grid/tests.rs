@@ -1,6 +1,7 @@
 //! Unit tests of the parent module.
 
 use super::*;
+use crate::model::Section;
 
 fn section(text: &str) -> Section {
     crate::model::validate(&crate::model::parse(text).unwrap()).unwrap()
