@@ -1,23 +1,9 @@
 //! `xsheat verify` and `xsheat converge` through the command-line tool.
 
-use std::path::PathBuf;
-use std::process::{Command, Output};
+mod common;
 
-fn tmp(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("accuracy_cli")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn xsheat(args: &[&std::ffi::OsStr]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .args(args)
-        .output()
-        .unwrap()
-}
+use common::{tmp, xsheat};
+use std::ffi::OsStr;
 
 /// A two-layer wall between two films with insulated cuts: the exact field is piecewise linear,
 /// so the heat flows are mesh-independent (P1 reproduces it), and the insulated cut carries no
@@ -60,16 +46,12 @@ at = [0.3, 0.5]
 
 #[test]
 fn verify_passes_and_writes_its_files() {
-    let d = tmp("verify");
-    let out = xsheat(&["verify".as_ref(), "--out".as_ref(), d.as_os_str()]);
-    let stdout = String::from_utf8_lossy(&out.stdout);
+    let scratch = tmp();
+    let d = scratch.path();
+    let out = xsheat([OsStr::new("verify"), OsStr::new("--out"), d.as_os_str()]);
+    let stdout = &out.stdout;
     println!("{stdout}");
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{stdout}\n{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    assert_eq!(out.code, 0, "{stdout}\n{}", out.stderr);
     assert!(stdout.contains("eccentric_cylinders") && stdout.contains("convective_rectangle"));
     let csv = std::fs::read_to_string(d.join("verify.csv")).unwrap();
     assert!(csv.starts_with(
@@ -87,26 +69,22 @@ fn verify_passes_and_writes_its_files() {
 
 #[test]
 fn converge_writes_documented_files_and_flags_constant_quantities() {
-    let d = tmp("converge");
+    let scratch = tmp();
+    let d = scratch.path();
     let model = d.join("wall.toml");
     std::fs::write(&model, WALL).unwrap();
     let dir = d.join("out");
-    let out = xsheat(&[
-        "converge".as_ref(),
+    let out = xsheat([
+        OsStr::new("converge"),
         model.as_os_str(),
-        "--levels".as_ref(),
-        "4".as_ref(),
-        "--out".as_ref(),
+        OsStr::new("--levels"),
+        OsStr::new("4"),
+        OsStr::new("--out"),
         dir.as_os_str(),
     ]);
-    let stdout = String::from_utf8_lossy(&out.stdout);
+    let stdout = &out.stdout;
     println!("{stdout}");
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    assert_eq!(out.code, 0, "{}", out.stderr);
     let csv = std::fs::read_to_string(dir.join("convergence.csv")).unwrap();
     let mut lines = csv.lines();
     assert_eq!(
@@ -168,32 +146,33 @@ fn converge_writes_documented_files_and_flags_constant_quantities() {
 
 #[test]
 fn converge_refuses_bad_arguments_with_exit_2_and_writes_nothing() {
-    let d = tmp("converge_bad");
+    let scratch = tmp();
+    let d = scratch.path();
     let model = d.join("wall.toml");
     std::fs::write(&model, WALL).unwrap();
     let dir = d.join("out");
-    let two = xsheat(&[
-        "converge".as_ref(),
+    let two = xsheat([
+        OsStr::new("converge"),
         model.as_os_str(),
-        "--levels".as_ref(),
-        "2".as_ref(),
-        "--out".as_ref(),
+        OsStr::new("--levels"),
+        OsStr::new("2"),
+        OsStr::new("--out"),
         dir.as_os_str(),
     ]);
-    assert_eq!(two.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&two.stderr).contains("--levels = 2"));
+    assert_eq!(two.code, 2);
+    assert!(two.stderr.contains("--levels = 2"));
     // The finest of 5 levels is estimated at 2.2·0.49/(0.005/4⁴) ≈ 55 000 triangles.
-    let big = xsheat(&[
-        "converge".as_ref(),
+    let big = xsheat([
+        OsStr::new("converge"),
         model.as_os_str(),
-        "--levels".as_ref(),
-        "5".as_ref(),
-        "--max-triangles".as_ref(),
-        "5000".as_ref(),
-        "--out".as_ref(),
+        OsStr::new("--levels"),
+        OsStr::new("5"),
+        OsStr::new("--max-triangles"),
+        OsStr::new("5000"),
+        OsStr::new("--out"),
         dir.as_os_str(),
     ]);
-    assert_eq!(big.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&big.stderr).contains("finest level"));
+    assert_eq!(big.code, 2);
+    assert!(big.stderr.contains("finest level"));
     assert!(!dir.exists());
 }

@@ -2,50 +2,27 @@
 //! corner the solution has a singular gradient there (r^(2/3) behaviour at a 270° corner,
 //! e.g. Grisvard, Elliptic Problems in Nonsmooth Domains, 1985), so uniform refinement
 //! converges slowly and adaptive refinement should reach a given estimate with far fewer
-//! triangles. Only one edge is fixed, so no corner joins two different fixed temperatures
-//! (which would make the exact solution's energy infinite).
+//! triangles. The section is the L-shaped fixture (tests/fixtures/l-section.toml): only one
+//! edge is fixed, so no corner joins two different fixed temperatures (which would make the
+//! exact solution's energy infinite).
+
+mod common;
 
 use xsheat::mesh::MeshOptions;
 use xsheat::{model, run};
 
-fn l_section(max_area: f64) -> String {
-    format!(
-        r#"
-[mesh]
-max_area = {max_area}
-min_angle = 28
-[materials.concrete]
-conductivity = 1.6
-[outline]
-material = "concrete"
-points = [[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [1.0, 1.0], [1.0, 2.0], [0.0, 2.0]]
-edges = ["warm", "cut", "air", "air", "cut", "cold"]
-[boundaries.warm]
-kind = "fixed"
-temperature = 40.0
-[boundaries.cold]
-kind = "convection"
-h = 25.0
-ambient = 5.0
-[boundaries.air]
-kind = "convection"
-h = 8.0
-ambient = 20.0
-[boundaries.cut]
-kind = "insulated"
-"#
-    )
-}
+/// Coarsest global area limit, m²: about 60 triangles on the 0.48 m² L-shaped fixture.
+const COARSE: f64 = 0.008;
 
 fn prepared(max_area: f64) -> run::Prepared {
-    run::prepare_model(model::parse(&l_section(max_area)).unwrap()).unwrap()
+    run::prepare_model(model::parse(&common::l_section_with_max_area(max_area)).unwrap()).unwrap()
 }
 
 #[test]
 fn adaptive_refinement_beats_uniform_refinement_at_a_re_entrant_corner() {
     let target = 0.03;
     // Uniform: divide max_area by 4 until the estimate meets the target.
-    let mut area = 0.05;
+    let mut area = COARSE;
     let uniform_triangles = loop {
         let s = run::solve(prepared(area), &MeshOptions::default()).unwrap();
         if s.error_estimate.relative <= target {
@@ -55,7 +32,7 @@ fn adaptive_refinement_beats_uniform_refinement_at_a_re_entrant_corner() {
         assert!(area > 1e-7, "uniform refinement did not reach the target");
     };
     let adaptive =
-        xsheat::study::adaptive::solve_adaptive(prepared(0.05), &MeshOptions::default(), target)
+        xsheat::study::adaptive::solve_adaptive(prepared(COARSE), &MeshOptions::default(), target)
             .unwrap();
     let last = adaptive.adaptivity.last().unwrap();
     assert!(last.relative_error <= target);
@@ -87,7 +64,7 @@ fn adaptive_refinement_stops_at_the_triangle_limit_with_a_warning() {
         max_triangles: 400,
         refine: true,
     };
-    let s = xsheat::study::adaptive::solve_adaptive(prepared(0.05), &opts, 1e-4).unwrap();
+    let s = xsheat::study::adaptive::solve_adaptive(prepared(COARSE), &opts, 1e-4).unwrap();
     assert!(s.mesh.triangles.len() <= 400);
     assert!(
         s.warnings.iter().any(|w| w.contains("--max-triangles")),
@@ -100,7 +77,7 @@ fn adaptive_refinement_stops_at_the_triangle_limit_with_a_warning() {
 fn target_error_must_be_a_fraction() {
     for bad in [0.0, -0.1, 1.5, f64::NAN] {
         let e =
-            xsheat::study::adaptive::solve_adaptive(prepared(0.05), &MeshOptions::default(), bad)
+            xsheat::study::adaptive::solve_adaptive(prepared(COARSE), &MeshOptions::default(), bad)
                 .unwrap_err();
         assert_eq!(e.exit_code(), 2);
     }

@@ -1,10 +1,78 @@
-//! Whole-pipeline checks against analytical solutions. Each check names its source.
+//! Whole-pipeline checks against analytical solutions. The reference cases — models, reference
+//! values, tolerances and their sources — live in one table, `xsheat::study::verify::cases()`,
+//! which `xsheat verify` runs too. This file has one test per case of the table, a test that
+//! the cases covered here are exactly the table's, and further checks of the same models that
+//! the suite does not make (each naming its source).
 
+use std::collections::BTreeSet;
 use xsheat::mesh::MeshOptions;
+use xsheat::study::verify::{self, ReferenceCase};
 use xsheat::{model, run};
 
-fn solve(text: &str) -> run::Solved {
-    let p = run::prepare_model(model::parse(text).expect("parse")).expect("valid");
+/// One `#[test]` per named case, each running [`check_case`], and the list of names covered.
+macro_rules! reference_case_tests {
+    ($($name:ident),* $(,)?) => {
+        $(
+            #[test]
+            fn $name() {
+                check_case(stringify!($name));
+            }
+        )*
+        /// The cases that have a test above.
+        const COVERED: &[&str] = &[$(stringify!($name)),*];
+    };
+}
+
+reference_case_tests!(
+    composite_wall,
+    hollow_cylinder,
+    eccentric_cylinders,
+    fourier_rectangle,
+    disk_with_source,
+    convective_rectangle,
+    grid_versus_element,
+);
+
+fn case(name: &str) -> ReferenceCase {
+    verify::case(name).unwrap_or_else(|| panic!("no reference case {name} in verify::cases()"))
+}
+
+/// Solves the named case and asserts every quantity of the table is within its tolerance.
+fn check_case(name: &str) {
+    let case = case(name);
+    let results = verify::run_case(&case).unwrap_or_else(|e| panic!("{name}: {e}"));
+    assert_eq!(results.len(), case.quantities.len());
+    for r in &results {
+        assert_eq!(r.case, name);
+        assert!(
+            r.passed,
+            "{name} {}: computed {} vs reference {} ({}), error {:e} above tolerance {:e}",
+            r.quantity, r.computed, r.reference, r.reference_detail, r.error, r.tolerance
+        );
+    }
+}
+
+#[test]
+fn the_tests_here_cover_exactly_the_cases_of_the_table() {
+    let table: Vec<&str> = verify::cases().iter().map(|c| c.name).collect();
+    let table_set: BTreeSet<&str> = table.iter().copied().collect();
+    let covered: BTreeSet<&str> = COVERED.iter().copied().collect();
+    assert_eq!(
+        table_set.len(),
+        table.len(),
+        "repeated case names: {table:?}"
+    );
+    assert_eq!(covered.len(), COVERED.len(), "repeated tests: {COVERED:?}");
+    assert_eq!(
+        covered, table_set,
+        "a case is missing from the table or has no test here"
+    );
+}
+
+/// Solves the named case's model with `extra` (e.g. further probes) appended.
+fn solve_with(name: &str, extra: &str) -> run::Solved {
+    let text = format!("{}{extra}", case(name).model);
+    let p = run::prepare_model(model::parse(&text).expect("parse")).expect("valid");
     let s = run::solve(p, &MeshOptions::default()).expect("solve");
     assert!(s.checks_passed(), "{:?}", s.checks);
     s
@@ -24,149 +92,57 @@ fn probe(s: &run::Solved, name: &str) -> f64 {
         .probes
         .iter()
         .find(|p| p.name == name)
-        .unwrap()
+        .unwrap_or_else(|| panic!("no probe {name}"))
         .temperature
 }
 
 #[test]
-fn composite_wall_with_convection_on_both_faces() {
-    // Two layers in series between two films. Source: 1D series thermal resistances,
-    // q'' = ΔT / (1/h1 + L1/k1 + L2/k2 + 1/h2) (Incropera, Fundamentals of Heat and Mass
-    // Transfer, ch. 3). The exact solution is piecewise linear, which P1 elements reproduce, so
-    // the heat flow must agree to round-off.
-    let text = r#"
-[mesh]
-max_area = 0.004
-[materials.masonry]
-conductivity = 1.2
-[materials.insulation]
-conductivity = 0.04
-[outline]
-material = "masonry"
-points = [[0.0, 0.0], [0.5, 0.0], [0.5, 1.0], [0.0, 1.0]]
-edges = ["cut", "outside", "cut", "inside"]
-[[regions]]
-material = "insulation"
-points = [[0.2, 0.0], [0.5, 0.0], [0.5, 1.0], [0.2, 1.0]]
-[boundaries.inside]
-kind = "convection"
-h = 25.0
-ambient = 20.0
-[boundaries.outside]
-kind = "convection"
-h = 8.0
-ambient = -5.0
-[boundaries.cut]
-kind = "insulated"
-"#;
-    let s = solve(text);
-    let r_total = 1.0 / 25.0 + 0.2 / 1.2 + 0.3 / 0.04 + 1.0 / 8.0;
-    let q = 25.0 / r_total; // W/m² = W/m per metre of wall height 1 m
-    let qin = flow(&s, "inside");
+fn composite_wall_outside_face_passes_the_same_flow() {
+    // Source: 1D series thermal resistances, q'' = ΔT / (1/h1 + L1/k1 + L2/k2 + 1/h2)
+    // (Incropera et al., Fundamentals of Heat and Mass Transfer, ch. 3). The exact solution is
+    // piecewise linear, which P1 elements reproduce: the heat leaving through the outside face
+    // equals the series value to round-off.
+    let s = solve_with("composite_wall", "");
+    let q = 25.0 / (1.0 / 25.0 + 0.2 / 1.2 + 0.3 / 0.04 + 1.0 / 8.0);
     let qout = flow(&s, "outside");
-    assert!((qin - q).abs() <= 1e-9 * q, "inside {qin} vs {q}");
     assert!((qout + q).abs() <= 1e-9 * q, "outside {qout} vs {}", -q);
 }
 
 #[test]
-fn hollow_cylinder_between_two_fixed_temperatures() {
-    // Source: conduction through a cylindrical wall, q' = 2πk(T1 − T2)/ln(r2/r1)
-    // (Incropera, ch. 3, radial systems). Tolerance 0.5 % (polygonal rings of 128 segments and a
-    // P1 mesh).
-    let text = r#"
-[mesh]
-max_area = 0.0008
-[materials.lining]
-conductivity = 2.3
-[outline]
-material = "lining"
-circle = { center = [0.0, 0.0], radius = 1.0, segments = 128 }
-boundary = "outer"
-[[holes]]
-circle = { center = [0.0, 0.0], radius = 0.4, segments = 128 }
-boundary = "inner"
-[boundaries.outer]
-kind = "fixed"
-temperature = 15.0
-[boundaries.inner]
-kind = "fixed"
-temperature = 80.0
-[[probes]]
-name = "mid"
-at = [0.0, 0.7]
-"#;
-    let s = solve(text);
-    let exact = 2.0 * std::f64::consts::PI * 2.3 * (80.0 - 15.0) / (1.0f64 / 0.4).ln();
-    let q = flow(&s, "inner");
-    assert!((q - exact).abs() <= 5e-3 * exact, "inner {q} vs {exact}");
-    assert!((flow(&s, "outer") + q).abs() <= 1e-9 * q);
-    // T(r) = T1 + (T2 − T1)·ln(r/r1)/ln(r2/r1), same source.
-    let t = 80.0 + (15.0 - 80.0) * (0.7f64 / 0.4).ln() / (1.0f64 / 0.4).ln();
-    assert!(
-        (probe(&s, "mid") - t).abs() < 0.05,
-        "{} vs {t}",
-        probe(&s, "mid")
+fn hollow_cylinder_logarithmic_profile_and_balance() {
+    // Source: conduction through a cylindrical wall (Incropera et al., ch. 3, radial systems):
+    // T(r) = T1 + (T2 − T1)·ln(r/r1)/ln(r2/r1). Tolerance 0.05 K for a 65 K difference.
+    let s = solve_with(
+        "hollow_cylinder",
+        "[[probes]]\nname = \"mid\"\nat = [0.0, 0.7]\n",
     );
+    let t = 80.0 + (15.0 - 80.0) * (0.7f64 / 0.4).ln() / (1.0f64 / 0.4).ln();
+    let got = probe(&s, "mid");
+    assert!((got - t).abs() < 0.05, "{got} vs {t}");
+    // Without a source all heat entering the inner ring leaves through the outer one.
+    let q = flow(&s, "inner");
+    assert!((flow(&s, "outer") + q).abs() <= 1e-9 * q);
 }
 
 #[test]
-fn rectangle_with_one_hot_side_matches_the_fourier_series() {
-    // Source: separation of variables for a rectangle with T = T1 on three sides and T2 on the
-    // fourth (Incropera, §4.2): θ(x, y) = (2/π) Σ_{n≥1} ((−1)^{n+1} + 1)/n · sin(nπx/L) ·
-    // sinh(nπy/L)/sinh(nπW/L), θ = (T − T1)/(T2 − T1). Check points away from the singular
-    // corners; tolerance 0.1 K for a 100 K difference.
-    let text = r#"
-[mesh]
-max_area = 0.0004
-min_angle = 30
-[materials.plate]
-conductivity = 45.0
-[outline]
-material = "plate"
-points = [[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]]
-edges = ["cold", "cold", "hot", "cold"]
-[boundaries.cold]
-kind = "fixed"
-temperature = 5.0
-[boundaries.hot]
-kind = "fixed"
-temperature = 105.0
-[[probes]]
-name = "a"
-at = [1.0, 0.5]
-[[probes]]
-name = "b"
-at = [0.5, 0.5]
-[[probes]]
-name = "c"
-at = [1.5, 0.25]
-[[probes]]
-name = "d"
-at = [1.0, 0.8]
-[[probes]]
-name = "e"
-at = [0.3, 0.9]
-"#;
-    let s = solve(text);
-    let (l, w) = (2.0f64, 1.0f64);
-    let theta = |x: f64, y: f64| -> f64 {
-        let mut sum = 0.0;
-        for n in 1..400 {
-            let nf = n as f64;
-            let c = ((-1.0f64).powi(n + 1) + 1.0) / nf;
-            if c == 0.0 {
-                continue;
-            }
-            let k = nf * std::f64::consts::PI / l;
-            // sinh(k y)/sinh(k W) written with exponentials to avoid overflow
-            let ratio =
-                (k * (y - w)).exp() * (1.0 - (-2.0 * k * y).exp()) / (1.0 - (-2.0 * k * w).exp());
-            sum += c * (k * x).sin() * ratio;
-        }
-        2.0 / std::f64::consts::PI * sum
-    };
+fn fourier_rectangle_at_further_interior_points() {
+    // Source: separation of variables for a rectangle with T1 on three sides and T2 on the
+    // fourth (Incropera et al., §4.2, section number recalled from memory); the series is
+    // verify::fourier_rectangle_theta. Points away from the singular corners; tolerance 0.1 K
+    // for a 100 K difference.
+    let extra: String = [
+        ("b", 0.5, 0.5),
+        ("c", 1.5, 0.25),
+        ("d", 1.0, 0.8),
+        ("e", 0.3, 0.9),
+    ]
+    .iter()
+    .map(|(n, x, y)| format!("[[probes]]\nname = \"{n}\"\nat = [{x:?}, {y:?}]\n"))
+    .collect();
+    let s = solve_with("fourier_rectangle", &extra);
+    assert_eq!(s.results.probes.len(), 6);
     for p in &s.results.probes {
-        let exact = 5.0 + 100.0 * theta(p.x, p.y);
+        let exact = 5.0 + 100.0 * verify::fourier_rectangle_theta(2.0, 1.0, p.x, p.y);
         assert!(
             (p.temperature - exact).abs() < 0.1,
             "probe {} at ({}, {}): {} vs {exact}",
@@ -179,30 +155,11 @@ at = [0.3, 0.9]
 }
 
 #[test]
-fn disk_with_uniform_source_and_fixed_rim() {
-    // Source: solid cylinder with uniform generation, T0 − Ts = q̇R²/(4k) (Incropera, ch. 3,
-    // radial systems with generation). Tolerance 0.5 %.
-    let text = r#"
-[mesh]
-max_area = 0.0005
-[materials.core]
-conductivity = 1.5
-heat_source = 2000.0
-[outline]
-material = "core"
-circle = { center = [0.0, 0.0], radius = 0.5, segments = 96 }
-boundary = "rim"
-[boundaries.rim]
-kind = "fixed"
-temperature = 12.0
-[[probes]]
-name = "centre"
-at = [0.0, 0.0]
-"#;
-    let s = solve(text);
-    let rise = 2000.0 * 0.25 / (4.0 * 1.5);
-    let got = probe(&s, "centre") - 12.0;
-    assert!((got - rise).abs() <= 5e-3 * rise, "{got} vs {rise}");
-    // All generated heat leaves through the rim (energy balance, exact for the discrete model).
-    assert!((flow(&s, "rim") + s.results.heat_source).abs() <= 1e-9 * s.results.heat_source);
+fn disk_with_source_loses_all_generated_heat_through_the_rim() {
+    // Energy balance of the solid cylinder with uniform generation (Incropera et al., ch. 3):
+    // q̇·πR² leaves through the rim; exact for the discrete model too.
+    let s = solve_with("disk_with_source", "");
+    let source = s.results.heat_source;
+    assert!(source > 0.0);
+    assert!((flow(&s, "rim") + source).abs() <= 1e-9 * source);
 }

@@ -1,8 +1,11 @@
 //! Bad input through the command-line tool: exit code 2, one message on stderr naming the
 //! offending item, and no output file written.
 
-use std::path::PathBuf;
-use std::process::Command;
+mod common;
+
+use common::{tmp, xsheat};
+use std::ffi::OsStr;
+use tempfile::TempDir;
 
 const BASE: &str = r#"
 title = "error-case base"
@@ -36,32 +39,19 @@ name = "P1"
 at = [4.0, 2.5]
 "#;
 
-fn tmp(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("cli_errors")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn run_solve(case: &str, model: &str) -> (i32, String, PathBuf) {
-    let d = tmp(case);
-    let path = d.join("model.toml");
-    std::fs::write(&path, model).unwrap();
-    let out = d.join("out");
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("solve")
-        .arg(&path)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    (
-        o.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&o.stderr).to_string(),
-        out,
-    )
+/// Writes the model into a fresh directory and runs `xsheat solve` on it. Returns the exit
+/// code, stderr, the directory's guard and the output path (`out` inside it).
+fn run_solve(model: &str) -> (i32, String, TempDir, std::path::PathBuf) {
+    let d = tmp();
+    let path = common::write(d.path(), "model.toml", model);
+    let out = d.path().join("out");
+    let o = xsheat([
+        OsStr::new("solve"),
+        path.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    (o.code, o.stderr, d, out)
 }
 
 fn replace(from: &str, to: &str) -> String {
@@ -71,7 +61,7 @@ fn replace(from: &str, to: &str) -> String {
 
 #[test]
 fn base_model_solves() {
-    let (code, err, out) = run_solve("base", BASE);
+    let (code, err, _dir, out) = run_solve(BASE);
     assert_eq!(code, 0, "{err}");
     for f in [
         "field.vtu",
@@ -362,7 +352,7 @@ fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
         ),
     ];
     for (case, model, needles) in cases {
-        let (code, err, out) = run_solve(case, &model);
+        let (code, err, _dir, out) = run_solve(&model);
         assert_eq!(code, 2, "case {case}: exit code {code}, stderr: {err}");
         for n in needles {
             assert!(err.contains(n), "case {case}: stderr lacks {n:?}: {err}");
@@ -378,31 +368,34 @@ fn bad_inputs_exit_2_name_the_item_and_write_nothing() {
 
 #[test]
 fn unreadable_model_file() {
-    let d = tmp("unreadable");
-    let out = d.join("out");
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .args(["solve", d.join("missing.toml").to_str().unwrap(), "--out"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&o.stderr).contains("missing.toml"));
+    let d = tmp();
+    let out = d.path().join("out");
+    let o = xsheat([
+        OsStr::new("solve"),
+        d.path().join("missing.toml").as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(o.code, 2);
+    assert!(o.stderr.contains("missing.toml"));
     assert!(!out.exists());
 }
 
 #[test]
 fn mesh_command_refuses_bad_input_without_writing() {
-    let d = tmp("mesh-bad");
-    let path = d.join("model.toml");
-    std::fs::write(&path, replace("conductivity = 1.7", "conductivity = -1.0")).unwrap();
-    let out = d.join("mesh.vtu");
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("mesh")
-        .arg(&path)
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(2));
+    let d = tmp();
+    let path = common::write(
+        d.path(),
+        "model.toml",
+        &replace("conductivity = 1.7", "conductivity = -1.0"),
+    );
+    let out = d.path().join("mesh.vtu");
+    let o = xsheat([
+        OsStr::new("mesh"),
+        path.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(o.code, 2);
     assert!(!out.exists());
 }

@@ -1,29 +1,10 @@
 //! `xsheat compare`: a user's own grid results against the element field, through the
 //! command-line tool.
 
+mod common;
+
+use common::{Run, tmp, xsheat};
 use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn tmp(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("crosscheck_compare")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn xsheat(args: &[&str]) -> (i32, String, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .args(args)
-        .output()
-        .unwrap();
-    (
-        o.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&o.stdout).to_string(),
-        String::from_utf8_lossy(&o.stderr).to_string(),
-    )
-}
 
 /// An invented section with a hole and mixed edges (an off-grid circle is fine here: compare
 /// takes any points).
@@ -63,7 +44,7 @@ fn solved_nodes(d: &Path) -> (PathBuf, Vec<(String, String, f64)>) {
     let model = d.join("model.toml");
     std::fs::write(&model, MODEL).unwrap();
     let out = d.join("solve");
-    let (code, _, stderr) = xsheat(&[
+    let Run { code, stderr, .. } = xsheat(&[
         "solve",
         model.to_str().unwrap(),
         "--out",
@@ -96,8 +77,9 @@ fn diffs(path: &Path) -> Vec<[f64; 5]> {
 
 #[test]
 fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
-    let d = tmp("own_nodes");
-    let (model, nodes) = solved_nodes(&d);
+    let scratch = tmp();
+    let d = scratch.path();
+    let (model, nodes) = solved_nodes(d);
 
     // The element model's own nodal values, under the user header (with an extra column,
     // which must be ignored). Linear triangles interpolate with nodal (Lagrange) basis
@@ -110,7 +92,11 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
     let grid = d.join("own.csv");
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "compare",
         model.to_str().unwrap(),
         "--grid-file",
@@ -134,7 +120,11 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
     }
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out_shift");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "compare",
         model.to_str().unwrap(),
         "--grid-file",
@@ -151,7 +141,8 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
 
 #[test]
 fn points_outside_are_listed_and_skipped() {
-    let d = tmp("outside");
+    let scratch = tmp();
+    let d = scratch.path();
     let model = d.join("model.toml");
     std::fs::write(&model, MODEL).unwrap();
     let mut text = String::from("x,y,temperature\n");
@@ -164,7 +155,11 @@ fn points_outside_are_listed_and_skipped() {
     let grid = d.join("pts.csv");
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "compare",
         model.to_str().unwrap(),
         "--grid-file",

@@ -1,8 +1,11 @@
 //! Bad input to `gridcheck` and `compare`: exit code 2, a message naming the offending item,
 //! and nothing written (the output directory is not even created).
 
-use std::path::PathBuf;
-use std::process::Command;
+mod common;
+
+use common::{tmp, xsheat};
+use std::path::{Path, PathBuf};
+use tempfile::TempDir;
 
 const MODEL: &str = r#"
 [mesh]
@@ -22,29 +25,21 @@ h = 25.0
 ambient = -3.0
 "#;
 
-/// A case directory with the model written; returns (dir, model path, output dir).
-fn case(name: &str) -> (PathBuf, String, PathBuf) {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("crosscheck_errors")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    let model = d.join("model.toml");
-    std::fs::write(&model, MODEL).unwrap();
-    let out = d.join("out");
+/// A case directory with the model written; returns (dir, model path, output dir). The
+/// directory is removed when the returned guard is dropped.
+fn case() -> (TempDir, String, PathBuf) {
+    let d = tmp();
+    let model = common::write(d.path(), "model.toml", MODEL);
+    let out = d.path().join("out");
     (d, model.to_str().unwrap().to_string(), out)
 }
 
 /// Runs xsheat and asserts exit 2, every `want` in stderr, and no output directory.
-fn refused(args: &[&str], out: &PathBuf, want: &[&str]) {
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .args(args)
-        .arg("--out")
-        .arg(out)
-        .output()
-        .unwrap();
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+fn refused(args: &[&str], out: &Path, want: &[&str]) {
+    let out_arg = out.to_str().unwrap();
+    let o = xsheat(args.iter().copied().chain(["--out", out_arg]));
+    let err = &o.stderr;
+    assert_eq!(o.code, 2, "{args:?}: {err}");
     for w in want {
         assert!(err.contains(w), "{args:?}: expected {w:?} in {err}");
     }
@@ -53,7 +48,7 @@ fn refused(args: &[&str], out: &PathBuf, want: &[&str]) {
 
 #[test]
 fn bad_spacings_are_refused() {
-    let (_, model, out) = case("spacing");
+    let (_dir, model, out) = case();
     for h in ["0", "-0.1", "NaN", "inf"] {
         refused(
             &["gridcheck", &model, "--spacing", h],
@@ -124,9 +119,9 @@ fn bad_spacings_are_refused() {
     );
 }
 
-fn compare_refused(name: &str, csv: &str, want: &[&str]) {
-    let (d, model, out) = case(name);
-    let grid = d.join("grid.csv");
+fn compare_refused(csv: &str, want: &[&str]) {
+    let (d, model, out) = case();
+    let grid = d.path().join("grid.csv");
     std::fs::write(&grid, csv).unwrap();
     refused(
         &["compare", &model, "--grid-file", grid.to_str().unwrap()],
@@ -147,12 +142,10 @@ fn bad_grid_files_are_refused() {
         ],
     );
     compare_refused(
-        "header_order",
         "y,x,temperature\n0.1,0.1,20\n",
         &["header \"y,x,temperature\""],
     );
     compare_refused(
-        "nan",
         "x,y,temperature\n0.1,0.1,20\n0.2,0.1,NaN\n",
         &[
             "line 3, column temperature",
@@ -160,34 +153,30 @@ fn bad_grid_files_are_refused() {
         ],
     );
     compare_refused(
-        "inf",
         "x,y,temperature\ninf,0.1,20\n",
         &["line 2, column x", "not a finite number"],
     );
     compare_refused(
-        "text",
         "x,y,temperature\n0.1,abc,20\n",
         &["line 2, column y", "\"abc\" is not a number"],
     );
     compare_refused(
-        "short",
         "x,y,temperature\n0.1,0.2\n",
         &["line 2", "expected at least 3 values"],
     );
-    compare_refused("empty", "", &["the file is empty"]);
-    compare_refused("no_points", "x,y,temperature\n", &["no points after"]);
+    compare_refused("", &["the file is empty"]);
+    compare_refused("x,y,temperature\n", &["no points after"]);
     compare_refused(
-        "none_inside",
         "x,y,temperature\n5.0,5.0,20\n-1.0,0.3,20\n",
         &["none of the 2 points lies inside the section", "line 2"],
     );
-    let (d, model, out) = case("missing");
+    let (d, model, out) = case();
     refused(
         &[
             "compare",
             &model,
             "--grid-file",
-            d.join("absent.csv").to_str().unwrap(),
+            d.path().join("absent.csv").to_str().unwrap(),
         ],
         &out,
         &["cannot read grid results file"],

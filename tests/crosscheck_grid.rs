@@ -1,29 +1,10 @@
 //! `xsheat gridcheck`: the grid (finite-difference) model against the element model of the
 //! same section, through the command-line tool.
 
-use std::path::{Path, PathBuf};
-use std::process::Command;
+mod common;
 
-fn tmp(name: &str) -> PathBuf {
-    let d = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("crosscheck_grid")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
-fn xsheat(args: &[&str]) -> (i32, String, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .args(args)
-        .output()
-        .unwrap();
-    (
-        o.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&o.stdout).to_string(),
-        String::from_utf8_lossy(&o.stderr).to_string(),
-    )
-}
+use common::{Run, tmp, xsheat};
+use std::path::Path;
 
 /// Rows of a CSV file as (header, rows of fields).
 fn read_csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
@@ -48,52 +29,27 @@ fn col(header: &[String], name: &str) -> usize {
         .unwrap_or_else(|| panic!("no column {name} in {header:?}"))
 }
 
-/// An invented L-shaped section (0.8 m × 0.8 m with the 0.4 m × 0.4 m upper-right quarter
-/// removed), every edge on the grid lines of h = 0.1, 0.05, 0.025 m: a fixed base,
-/// convection on the step and the crown, insulated end, riser and back (the re-entrant corner
-/// sits between the convection step and the insulated riser). The element mesh (`max_area`)
-/// is much finer than the finest grid (edge ≈ 0.0059 m against h = 0.025 m).
+/// The section is the L-shaped fixture (tests/fixtures/l-section.toml): every edge on the grid
+/// lines of h = 0.1, 0.05, 0.025 m, a fixed base, convection on the step and the crown,
+/// insulated end, riser and back. The element mesh (`max_area`) is much finer than the finest
+/// grid (edge ≈ 0.0059 m against h = 0.025 m).
 ///
 /// The fixed base meets only insulated edges. With a fixed crown meeting a convection riser at
 /// 45 K difference (and convection on both sides of the re-entrant corner) the flows converged
 /// more slowly (order ≈ 1.4, still 3–4 % apart at h = 0.025 m): the gradient is singular at
 /// such corners, a property of the problem that both models share, so it is left out here.
-const L_SECTION: &str = r#"
-title = "L-shaped cross-check section"
-[mesh]
-max_area = 1.5e-5
-[materials.concrete]
-conductivity = 1.6
-[outline]
-material = "concrete"
-points = [[0.0, 0.0], [0.8, 0.0], [0.8, 0.4], [0.4, 0.4], [0.4, 0.8], [0.0, 0.8]]
-edges = ["base", "end", "step", "riser", "crown", "back"]
-[boundaries.base]
-kind = "fixed"
-temperature = 10.0
-[boundaries.end]
-kind = "insulated"
-[boundaries.step]
-kind = "convection"
-h = 12.0
-ambient = 35.0
-[boundaries.riser]
-kind = "insulated"
-[boundaries.crown]
-kind = "convection"
-h = 8.0
-ambient = -5.0
-[boundaries.back]
-kind = "insulated"
-"#;
-
 #[test]
 fn l_section_difference_falls_with_h_and_heat_flows_agree() {
-    let d = tmp("l_section");
+    let scratch = tmp();
+    let d = scratch.path();
     let model = d.join("model.toml");
-    std::fs::write(&model, L_SECTION).unwrap();
+    std::fs::write(&model, common::L_SECTION).unwrap();
     let out = d.join("out");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -190,11 +146,16 @@ ambient = -3.0
 
 #[test]
 fn gridcheck_writes_both_files_with_exact_headers() {
-    let d = tmp("block");
+    let scratch = tmp();
+    let d = scratch.path();
     let model = d.join("model.toml");
     std::fs::write(&model, BLOCK).unwrap();
     let out = d.join("out");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -226,7 +187,11 @@ fn gridcheck_writes_both_files_with_exact_headers() {
 
     // Levels with a replaced element max_area: the levels table appears and is written.
     let out2 = d.join("out2");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -254,7 +219,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
 
     // Deterministic bytes: a second run writes the same files.
     let out3 = d.join("out3");
-    let (code, _, stderr) = xsheat(&[
+    let Run { code, stderr, .. } = xsheat(&[
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",

@@ -1,31 +1,25 @@
 //! Files of `xsheat solve` on the demo sections: presence, CSV headers with units, VTK read-back
 //! with vtkio (array names and lengths), and byte-identical output from two runs.
 
-use std::path::{Path, PathBuf};
-use std::process::Command;
+mod common;
+
+use common::{repo_file, tmp, xsheat};
+use std::ffi::OsStr;
+use std::path::Path;
 use vtkio::Vtk;
 use vtkio::model::{Attribute, DataSet, Piece};
 
-/// Runs `xsheat solve MODEL --out OUT` and returns (stdout, stderr).
+/// Runs `xsheat solve` on a file of the repository into `out`; asserts success and returns
+/// (stdout, stderr).
 fn solve_into(model: &str, out: &Path) -> (String, String) {
-    let _ = std::fs::remove_dir_all(out);
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("solve")
-        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join(model))
-        .arg("--out")
-        .arg(out)
-        .output()
-        .unwrap();
-    let stdout = String::from_utf8_lossy(&o.stdout).to_string();
-    let stderr = String::from_utf8_lossy(&o.stderr).to_string();
-    assert_eq!(o.status.code(), Some(0), "{stdout}{stderr}");
-    (stdout, stderr)
-}
-
-fn tmp(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
-        .join("outputs")
-        .join(name)
+    let o = xsheat([
+        OsStr::new("solve"),
+        repo_file(model).as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(o.code, 0, "{}{}", o.stdout, o.stderr);
+    (o.stdout, o.stderr)
 }
 
 fn header(path: &Path) -> String {
@@ -39,8 +33,9 @@ fn header(path: &Path) -> String {
 
 #[test]
 fn demo_outputs_are_complete_and_read_back() {
-    let out = tmp("dam");
-    let (stdout, stderr) = solve_into("geometry/gallery-dam.toml", &out);
+    let scratch = tmp();
+    let out = scratch.path().join("out");
+    let (stdout, stderr) = solve_into("geometry/utility-tunnel.toml", &out);
     // The report holds results only; the caution goes to stderr.
     assert!(!stdout.contains("CAUTION"), "{stdout}");
     assert!(stderr.contains("CAUTION"), "{stderr}");
@@ -63,7 +58,7 @@ fn demo_outputs_are_complete_and_read_back() {
         header(&out.join("boundaries.csv")),
         "name,kind,length_m,heat_flow_w_per_m,mean_temperature_c,min_temperature_c,max_temperature_c"
     );
-    for line in ["lift-mid-height", "vertical-x2"] {
+    for line in ["vertical-centre", "below-surface"] {
         assert_eq!(
             header(&out.join(format!("line-{line}.csv"))),
             "s_m,x_m,y_m,temperature_c,qx_w_per_m2,qy_w_per_m2"
@@ -161,7 +156,8 @@ fn without_run(summary: &[u8]) -> serde_json::Value {
 
 #[test]
 fn two_runs_give_byte_identical_files() {
-    let (a, b) = (tmp("det-a"), tmp("det-b"));
+    let scratch = tmp();
+    let (a, b) = (scratch.path().join("a"), scratch.path().join("b"));
     solve_into("geometry/buried-pipes.toml", &a);
     solve_into("geometry/buried-pipes.toml", &b);
     let mut names: Vec<String> = std::fs::read_dir(&a)
@@ -185,24 +181,22 @@ fn two_runs_give_byte_identical_files() {
 
 #[test]
 fn solve_replaces_only_its_own_files() {
-    let out = tmp("keep");
-    let _ = std::fs::remove_dir_all(&out);
-    std::fs::create_dir_all(&out).unwrap();
+    let scratch = tmp();
+    let out = scratch.path();
     std::fs::write(out.join("notes.txt"), "engineer's notes").unwrap();
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("solve")
-        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/buried-pipes.toml"))
-        .arg("--out")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(0));
+    let o = xsheat([
+        OsStr::new("solve"),
+        repo_file("geometry/buried-pipes.toml").as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(o.code, 0);
     assert_eq!(
         std::fs::read_to_string(out.join("notes.txt")).unwrap(),
         "engineer's notes"
     );
     assert!(out.join("field.vtu").is_file());
-    let leftovers: Vec<_> = std::fs::read_dir(&out)
+    let leftovers: Vec<_> = std::fs::read_dir(out)
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
         .filter(|n| n.contains(".tmp"))
@@ -212,35 +206,30 @@ fn solve_replaces_only_its_own_files() {
 
 #[test]
 fn mesh_command_writes_a_vtu() {
-    let out = tmp("mesh");
-    let _ = std::fs::remove_dir_all(&out);
-    std::fs::create_dir_all(&out).unwrap();
-    let file = out.join("mesh.vtu");
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("mesh")
-        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/gallery-dam.toml"))
-        .arg("--out")
-        .arg(&file)
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(0));
-    let stdout = String::from_utf8_lossy(&o.stdout);
-    assert!(stdout.contains("min angle"), "{stdout}");
+    let scratch = tmp();
+    let file = scratch.path().join("mesh.vtu");
+    let o = xsheat([
+        OsStr::new("mesh"),
+        repo_file("geometry/utility-tunnel.toml").as_os_str(),
+        OsStr::new("--out"),
+        file.as_os_str(),
+    ]);
+    assert_eq!(o.code, 0);
+    assert!(o.stdout.contains("min angle"), "{}", o.stdout);
     assert!(Vtk::import(&file).is_ok());
 }
 
 #[test]
 fn check_command_prints_the_model() {
-    let o = Command::new(env!("CARGO_BIN_EXE_xsheat"))
-        .arg("check")
-        .arg(Path::new(env!("CARGO_MANIFEST_DIR")).join("geometry/gallery-dam.toml"))
-        .output()
-        .unwrap();
-    assert_eq!(o.status.code(), Some(0));
-    let stdout = String::from_utf8_lossy(&o.stdout);
+    let o = xsheat([
+        OsStr::new("check"),
+        repo_file("geometry/utility-tunnel.toml").as_os_str(),
+    ]);
+    assert_eq!(o.code, 0);
+    let stdout = &o.stdout;
     for s in [
-        "fresh-concrete",
-        "cooling-duct",
+        "topsoil",
+        "cable-duct",
         "gallery",
         "model is valid",
         "24 segments",

@@ -108,8 +108,8 @@ fn echoed_demo_models_read_back_as_the_same_section() {
             include_str!("../../geometry/buried-pipes.toml"),
         ),
         (
-            "gallery-dam",
-            include_str!("../../geometry/gallery-dam.toml"),
+            "utility-tunnel",
+            include_str!("../../geometry/utility-tunnel.toml"),
         ),
         (
             "wall-junction",

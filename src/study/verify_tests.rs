@@ -57,3 +57,41 @@ fn convective_rectangle_series_satisfies_its_boundary_conditions() {
     let q = r.base_heat_flow();
     assert!((loss - q).abs() < 1e-4 * q, "{loss} vs {q}");
 }
+
+#[test]
+fn the_table_has_unique_names_clean_citations_and_quantities() {
+    let all = cases();
+    let mut names: Vec<&str> = all.iter().map(|c| c.name).collect();
+    names.sort_unstable();
+    names.dedup();
+    assert_eq!(names.len(), all.len(), "repeated case names");
+    for c in &all {
+        assert!(!c.quantities.is_empty(), "{}: no quantities", c.name);
+        let bases =
+            std::iter::once(&c.basis).chain(c.quantities.iter().filter_map(|q| q.basis.as_ref()));
+        for b in bases {
+            assert!(!b.label.is_empty() && !b.formula.is_empty(), "{}", c.name);
+            // Remarks such as "from memory" belong in the code comments, not the citation.
+            for text in [b.label, b.source, b.formula] {
+                assert!(!text.contains("memory"), "{}: {text}", c.name);
+            }
+        }
+        assert_eq!(case(c.name).as_ref(), Some(c));
+        // Every model parses.
+        assert!(crate::model::parse(c.model).is_ok(), "{}", c.name);
+    }
+    assert!(case("no_such_case").is_none());
+}
+
+#[test]
+fn fourier_rectangle_series_meets_its_boundary_values() {
+    // θ = 0 on the sides x = 0, x = L and the base y = 0; θ → 1 along y = W (away from the
+    // corners, where the series converges slowly); symmetric about x = L/2.
+    let t = |x: f64, y: f64| fourier_rectangle_theta(2.0, 1.0, x, y);
+    assert!(t(0.0, 0.5).abs() < 1e-12);
+    assert!(t(2.0, 0.5).abs() < 1e-9);
+    assert!(t(1.0, 0.0).abs() < 1e-12);
+    assert!((t(1.0, 1.0) - 1.0).abs() < 2e-3, "{}", t(1.0, 1.0));
+    assert!((t(0.5, 0.7) - t(1.5, 0.7)).abs() < 1e-9);
+    assert!(t(1.0, 0.5) > 0.0 && t(1.0, 0.5) < 1.0);
+}
