@@ -184,10 +184,15 @@ fn points_outside_are_listed_and_skipped() {
 
 #[test]
 fn compare_reads_the_tools_own_nodes_csv() {
-    let d = tmp("nodes_csv");
-    let (model, nodes) = solved_nodes(&d);
+    let scratch = tmp();
+    let d = scratch.path();
+    let (model, nodes) = solved_nodes(d);
     let out = d.join("out");
-    let (code, stdout, stderr) = xsheat(&[
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat(&[
         "compare",
         model.to_str().unwrap(),
         "--grid-file",

@@ -133,7 +133,6 @@ fn compare_refused(csv: &str, want: &[&str]) {
 #[test]
 fn bad_grid_files_are_refused() {
     compare_refused(
-        "header",
         "x_m,y_m,temperature\n0.1,0.1,20\n",
         &[
             "line 1",
