@@ -49,7 +49,7 @@ fn l_section_difference_falls_with_h_and_heat_flows_agree() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -155,7 +155,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -191,7 +191,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",
@@ -219,7 +219,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
 
     // Deterministic bytes: a second run writes the same files.
     let out3 = d.join("out3");
-    let Run { code, stderr, .. } = xsheat(&[
+    let Run { code, stderr, .. } = xsheat([
         "gridcheck",
         model.to_str().unwrap(),
         "--spacing",

@@ -73,9 +73,9 @@ pub struct Piece {
     pub v: [usize; 2],
     /// The input segments the piece lies on.
     pub sources: Vec<Source>,
-    /// Zone to the left of v[0] → v[1].
+    /// Zone to the left of `v[0] → v[1]`.
     pub left: Zone,
-    /// Zone to the right of v[0] → v[1].
+    /// Zone to the right of `v[0] → v[1]`.
     pub right: Zone,
     /// Boundary id on the section boundary (`None` = unnamed), only meaningful if `ring` is set.
     pub boundary: Option<usize>,

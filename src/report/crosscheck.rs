@@ -114,7 +114,7 @@ fn flows_table(o: &mut String, fin: &GridLevel) {
     for f in &fin.flows {
         t.add_row(vec![
             f.name.clone(),
-            f.kind.clone(),
+            f.kind.as_str().to_string(),
             fixed(f.grid, 6),
             fixed(f.fe, 6),
             sci(f.diff, 4),

@@ -130,7 +130,7 @@ pub fn solve(prepared: Prepared, opts: &MeshOptions) -> Result<Solved> {
     solve_with(prepared, opts, None)
 }
 
-/// [`solve`] on a mesh graded by a size field.
+/// [`solve()`] on a mesh graded by a size field.
 pub fn solve_with(
     prepared: Prepared,
     opts: &MeshOptions,

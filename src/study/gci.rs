@@ -35,6 +35,7 @@ pub enum ConvergenceStatus {
 }
 
 impl ConvergenceStatus {
+    /// The status's name as written in files (`monotone`, `oscillating`, …).
     pub fn as_str(&self) -> &'static str {
         match self {
             ConvergenceStatus::Constant => "constant",
@@ -49,6 +50,7 @@ impl ConvergenceStatus {
 /// Result of the GCI procedure on the three finest levels of a sequence.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Gci {
+    /// How the values behave (decides what is reported).
     pub status: ConvergenceStatus,
     /// Observed order p.
     pub observed_order: Option<f64>,
@@ -62,12 +64,14 @@ pub struct Gci {
     pub approximate_relative_error: Option<f64>,
     /// |φ_ext − φ1|/|φ_ext| (Celik's e_ext^21).
     pub extrapolated_relative_error: Option<f64>,
-    /// h2/h1 and h3/h2 (1 = finest).
+    /// Refinement ratio h2/h1 (1 = finest).
     pub r21: f64,
+    /// Refinement ratio h3/h2.
     pub r32: f64,
     /// Observed order of every run of three consecutive levels, coarsest run first (more than
     /// three levels show whether the order settles); `None` where not monotone.
     pub orders_by_triplet: Vec<Option<f64>>,
+    /// Why a value is missing, or how it was obtained.
     pub note: String,
 }
 

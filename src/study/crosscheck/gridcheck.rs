@@ -184,7 +184,7 @@ fn flow_diffs(solved: &Solved, sol: &GridSolution) -> Vec<FlowDiff> {
             let diff = grid - b.heat_flow;
             FlowDiff {
                 name: b.name.clone(),
-                kind: b.kind.to_string(),
+                kind: b.kind,
                 grid,
                 fe: b.heat_flow,
                 diff,

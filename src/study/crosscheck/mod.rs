@@ -39,7 +39,9 @@ pub const FINE_RATIO: f64 = 4.0;
 /// The element mesh that served as the reference.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ElementMeshInfo {
+    /// Nodes of the element mesh.
     pub nodes: usize,
+    /// Triangles of the element mesh.
     pub triangles: usize,
     /// Global area limit used, m² (the model's, or `fe_max_area`).
     pub max_area_setting: f64,
@@ -69,6 +71,7 @@ pub struct PointDiff {
 /// Statistics of a set of differences.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct DiffStats {
+    /// Number of points compared.
     pub count: usize,
     /// max |diff|, K.
     pub max_abs: f64,
@@ -112,9 +115,13 @@ impl DiffStats {
 /// One boundary's heat flow in both models, W/m (positive into the section).
 #[derive(Debug, Clone, PartialEq)]
 pub struct FlowDiff {
+    /// Boundary name.
     pub name: String,
-    pub kind: String,
+    /// Boundary condition kind.
+    pub kind: crate::post::ConditionKind,
+    /// Heat flow of the grid model, W/m.
     pub grid: f64,
+    /// Heat flow of the element model, W/m.
     pub fe: f64,
     /// grid − fe, W/m.
     pub diff: f64,
@@ -127,8 +134,11 @@ pub struct FlowDiff {
 pub struct GridLevel {
     /// m
     pub spacing: f64,
+    /// Grid nodes (inside the section or on its boundary).
     pub grid_nodes: usize,
+    /// Nodes with a shortened (Shortley–Weller) arm at an off-grid fixed edge.
     pub shortley_weller_nodes: usize,
+    /// Differences at the grid nodes.
     pub stats: DiffStats,
     /// Boundaries that occur on the element mesh (unnamed segments left out), in id order.
     pub flows: Vec<FlowDiff>,
@@ -141,11 +151,15 @@ pub struct GridLevel {
 /// A grid check: one level per spacing, coarsest first; the finest level's field in full.
 #[derive(Debug, Clone)]
 pub struct GridCheck {
+    /// The element mesh used as the reference.
     pub element: ElementMeshInfo,
+    /// One comparison per spacing, coarsest first.
     pub levels: Vec<GridLevel>,
     /// Every node of the finest grid, in grid order.
     pub finest_points: Vec<PointDiff>,
+    /// The finest grid model.
     pub finest_model: GridModel,
+    /// The finest grid model's solution.
     pub finest_solution: GridSolution,
     /// Element-model warnings, then grid-model warnings (each once).
     pub warnings: Vec<String>,
@@ -169,14 +183,18 @@ pub struct UserPoint {
 pub struct UserGrid {
     /// Where they came from (file name), for messages.
     pub source: String,
+    /// The points in file order.
     pub points: Vec<UserPoint>,
 }
 
 /// A point of the user's file that lies outside the section.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct OutsidePoint {
+    /// Line in the file (1 = header).
     pub line: u64,
+    /// x, m.
     pub x: f64,
+    /// y, m.
     pub y: f64,
     /// Distance to the discretised section's boundary, m.
     pub distance: f64,
@@ -185,16 +203,20 @@ pub struct OutsidePoint {
 /// The comparison of a user's grid results with the element field.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Comparison {
+    /// Where the points came from (file name).
     pub source: String,
+    /// The element mesh used.
     pub element: ElementMeshInfo,
     /// The points inside the section, in file order.
     pub points: Vec<PointDiff>,
+    /// Differences at the points inside.
     pub stats: DiffStats,
     /// Points just outside the discretised section (within the probe snap tolerance),
     /// evaluated at the nearest boundary point; they are among `points`.
     pub snapped: usize,
     /// Points outside the section, skipped, in file order.
     pub outside: Vec<OutsidePoint>,
+    /// Warnings of the element model and of reading the file.
     pub warnings: Vec<String>,
 }
 
@@ -252,6 +274,7 @@ pub struct ElementField<'a> {
 }
 
 impl<'a> ElementField<'a> {
+    /// The element field of a solved model, ready for point queries.
     pub fn new(solved: &'a Solved) -> Self {
         ElementField {
             solved,
