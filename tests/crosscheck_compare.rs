@@ -44,7 +44,7 @@ fn solved_nodes(d: &Path) -> (PathBuf, Vec<(String, String, f64)>) {
     let model = d.join("model.toml");
     std::fs::write(&model, MODEL).unwrap();
     let out = d.join("solve");
-    let Run { code, stderr, .. } = xsheat(&[
+    let Run { code, stderr, .. } = xsheat([
         "solve",
         model.to_str().unwrap(),
         "--out",
@@ -96,7 +96,7 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "compare",
         model.to_str().unwrap(),
         "--grid-file",
@@ -124,7 +124,7 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "compare",
         model.to_str().unwrap(),
         "--grid-file",
@@ -159,7 +159,7 @@ fn points_outside_are_listed_and_skipped() {
         code,
         stdout,
         stderr,
-    } = xsheat(&[
+    } = xsheat([
         "compare",
         model.to_str().unwrap(),
         "--grid-file",
