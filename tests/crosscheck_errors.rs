@@ -7,29 +7,11 @@ use common::{tmp, xsheat};
 use std::path::{Path, PathBuf};
 use tempfile::TempDir;
 
-const MODEL: &str = r#"
-[mesh]
-max_area = 0.005
-[materials.brick]
-conductivity = 0.7
-[outline]
-material = "brick"
-points = [[0.0, 0.0], [0.9, 0.0], [0.9, 0.6], [0.0, 0.6]]
-edges = ["inside", "", "outside", ""]
-[boundaries.inside]
-kind = "fixed"
-temperature = 21.0
-[boundaries.outside]
-kind = "convection"
-h = 25.0
-ambient = -3.0
-"#;
-
-/// A case directory with the model written; returns (dir, model path, output dir). The
+/// A case directory with the wall-strip fixture written as its model; returns (dir, model path, output dir). The
 /// directory is removed when the returned guard is dropped.
 fn case() -> (TempDir, String, PathBuf) {
     let d = tmp();
-    let model = common::write(d.path(), "model.toml", MODEL);
+    let model = common::write(d.path(), "model.toml", common::WALL_STRIP);
     let out = d.path().join("out");
     (d, model.to_str().unwrap().to_string(), out)
 }

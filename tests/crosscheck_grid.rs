@@ -123,33 +123,12 @@ fn l_section_difference_falls_with_h_and_heat_flows_agree() {
     assert!(out.join("grid.vtu").is_file());
 }
 
-/// A demo-like block (invented numbers): a brick wall strip between a heated room and
-/// outside air, on grid lines of 0.05 m.
-const BLOCK: &str = r#"
-title = "wall strip"
-[mesh]
-max_area = 0.0005
-[materials.brick]
-conductivity = 0.7
-[outline]
-material = "brick"
-points = [[0.0, 0.0], [0.9, 0.0], [0.9, 0.6], [0.0, 0.6]]
-edges = ["inside", "", "outside", ""]
-[boundaries.inside]
-kind = "fixed"
-temperature = 21.0
-[boundaries.outside]
-kind = "convection"
-h = 25.0
-ambient = -3.0
-"#;
-
 #[test]
 fn gridcheck_writes_both_files_with_exact_headers() {
     let scratch = tmp();
     let d = scratch.path();
     let model = d.join("model.toml");
-    std::fs::write(&model, BLOCK).unwrap();
+    std::fs::write(&model, common::WALL_STRIP).unwrap();
     let out = d.join("out");
     let Run {
         code,

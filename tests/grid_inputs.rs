@@ -1,5 +1,7 @@
 //! Grid model: refused inputs. Each must be `Error::Input` (exit 2) naming the offending item.
 
+mod common;
+
 use xsheat::Error;
 use xsheat::grid;
 use xsheat::model::{self, Section};
@@ -16,21 +18,8 @@ fn input_error(r: xsheat::Result<grid::GridModel>) -> String {
     }
 }
 
-const BLOCK: &str = r#"
-[materials.brick]
-conductivity = 0.7
-[outline]
-material = "brick"
-points = [[0.0, 0.0], [0.9, 0.0], [0.9, 0.6], [0.0, 0.6]]
-edges = ["inside", "", "outside", ""]
-[boundaries.inside]
-kind = "fixed"
-temperature = 21.0
-[boundaries.outside]
-kind = "convection"
-h = 25.0
-ambient = -3.0
-"#;
+/// The wall-strip fixture (tests/fixtures/wall-strip.toml).
+const BLOCK: &str = common::WALL_STRIP;
 
 #[test]
 fn spacing_must_be_positive_and_finite() {

@@ -588,20 +588,19 @@ fn convective_rectangle() -> ReferenceCase {
 /// The convective rectangle solved by the grid (5-point finite-difference) model as well: the
 /// grid model against the same series solution, and the two models against each other.
 fn grid_versus_element() -> ReferenceCase {
-    let mut consistency = quantity(
-        "grid_minus_element:probe:middle",
-        "degC",
-        Reading::GridTemperature([0.25, 0.2]),
-        0.0,
-        0.02,
-        ErrorMeasure::Absolute,
-    );
-    consistency.reference = Reference::Model(Reading::Probe("middle"));
-    consistency.basis = Some(Basis {
-        label: "internal consistency",
-        source: "",
-        formula: "element solution (reference column) against the grid model (computed column) at the middle of the convective rectangle: two independent discretisations of one boundary-value problem",
-    });
+    let consistency = Quantity {
+        name: "grid_minus_element:probe:middle".to_string(),
+        unit: "degC",
+        computed: Reading::GridTemperature([0.25, 0.2]),
+        reference: Reference::Model(Reading::Probe("middle")),
+        tolerance: 0.02,
+        measure: ErrorMeasure::Absolute,
+        basis: Some(Basis {
+            label: "internal consistency",
+            source: "",
+            formula: "element solution (reference column) against the grid model (computed column) at the middle of the convective rectangle: two independent discretisations of one boundary-value problem",
+        }),
+    };
     ReferenceCase {
         name: "grid_versus_element",
         basis: Basis {

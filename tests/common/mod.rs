@@ -65,3 +65,6 @@ pub fn l_section_with_max_area(max_area: f64) -> String {
     assert!(L_SECTION.contains(from), "fixture lacks {from:?}");
     L_SECTION.replacen(from, &format!("max_area = {max_area:e}"), 1)
 }
+
+/// The brick wall-strip test section (tests/fixtures/wall-strip.toml).
+pub const WALL_STRIP: &str = include_str!("../fixtures/wall-strip.toml");
