@@ -1,21 +1,28 @@
 //! Output stage: turns a mesh and its results into files, and writes files safely.
 //!
 //! This module owns
-//! * [`OutputSet`] and [`write_file_atomic`]: all-or-nothing writing of result files (each file
-//!   goes to a temporary next to its target, is flushed to disk, and only when every temporary
-//!   is complete are they renamed into place);
-//! * the VTK XML unstructured-grid writers [`field_vtu`] (solved field) and [`mesh_vtu`] (mesh
-//!   and its quality);
-//! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`] and [`boundaries_csv`];
-//! * the run summary [`summary_json`].
+//! * [`OutputSet`] and [`write_file_atomic`] (`fs.rs`, the one place that writes files):
+//!   all-or-nothing writing of result files (each file goes to a `tempfile` temporary next to
+//!   its target, is flushed to disk, and only when every temporary is complete are they renamed
+//!   into place);
+//! * the VTK XML unstructured-grid writers [`field_vtu`] (solved field), [`mesh_vtu`] (mesh and
+//!   its quality) and [`grid_vtu`] (grid model);
+//! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`], [`boundaries_csv`] and those
+//!   of the studies (convergence, verify, gridcheck, compare);
+//! * the JSON files, each a typed serde record with `"schema": "xsheat.<kind>/<n>"`:
+//!   [`summary_json`] (`xsheat.summary/2`), [`convergence_json`] (`xsheat.convergence/2`) and
+//!   [`verify_json`] (`xsheat.verify/1`).
+//!
+//! Names carry their unit as one suffix ([`UNIT_SUFFIXES`]): `temperature_c`,
+//! `heat_flow_w_per_m`, `gradient_k_per_m`, … in CSV headers, JSON keys and VTK arrays alike.
 //!
 //! Every writer returns bytes; nothing here touches the disk except [`OutputSet::commit`] and
 //! [`write_file_atomic`].
 //!
 //! # Determinism and number formatting
 //!
-//! The same inputs give byte-identical files (only the caller-supplied `run` object of the
-//! summary is expected to vary). No hash-ordered container is iterated.
+//! The same inputs give byte-identical files (only the `run` object of the summary, which holds
+//! the timings, is expected to vary). No hash-ordered container is iterated.
 //!
 //! * CSV numbers use [`format_f64`]: the shortest decimal string that reads back to the same
 //!   `f64` (Rust's round-trip formatting), written positionally (`{}`) when
@@ -28,26 +35,26 @@
 //!
 //! Node and triangle numbers in every file are 0-based, matching VTK point and cell ids.
 
+mod converge;
+mod crosscheck;
 mod csv;
 mod fs;
+mod grid_vtk;
 mod json;
+mod solve;
 mod summary;
 #[cfg(test)]
 mod tests;
+mod verify;
 mod vtk;
 
+pub use converge::*;
+pub use crosscheck::*;
 pub use csv::*;
 pub use fs::*;
-pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
-pub use summary::*;
-pub use vtk::*;
-mod converge;
-mod solve;
-pub use converge::*;
-pub use solve::*;
-mod crosscheck;
-pub use crosscheck::*;
-mod grid_vtk;
 pub use grid_vtk::*;
-mod verify;
+pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
+pub use solve::*;
+pub use summary::*;
 pub use verify::*;
+pub use vtk::*;

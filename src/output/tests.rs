@@ -588,3 +588,18 @@ fn write_file_atomic_replaces_single_file() {
     assert!(write_file_atomic(root.join(".."), b"x").is_err());
     let _ = fs::remove_dir_all(&root);
 }
+
+#[cfg(unix)]
+#[test]
+fn committed_files_get_ordinary_permissions() {
+    use std::os::unix::fs::PermissionsExt;
+    // Temporaries of the tempfile crate are private (0o600) by default; a result file must get
+    // the mode of any new file (0o666 less the umask), the same as `fs::write` gives here.
+    let dir = scratch_dir("mode");
+    fs::create_dir_all(&dir).unwrap();
+    fs::write(dir.join("plain.txt"), b"x").unwrap();
+    write_file_atomic(dir.join("result.csv"), b"x").unwrap();
+    let mode = |n: &str| fs::metadata(dir.join(n)).unwrap().permissions().mode() & 0o777;
+    assert_eq!(mode("result.csv"), mode("plain.txt"));
+    let _ = fs::remove_dir_all(&dir);
+}
