@@ -57,7 +57,7 @@ enum Command {
     /// Cross-check: solve the grid (finite-difference) model and the element model of the
     /// section and compare them node by node and boundary by boundary.
     Gridcheck(GridcheckArgs),
-    /// Cross-check: compare your own grid results (CSV x,y,temperature) with the element field.
+    /// Cross-check: compare your own grid results (CSV x,y,temperature or nodes.csv) with the element field.
     Compare(CompareArgs),
 }
 
@@ -89,8 +89,8 @@ struct SolveArgs {
     out: PathBuf,
     #[command(flatten)]
     limit: Limit,
-    /// Refine adaptively until the relative energy-norm error estimate is at most this
-    /// fraction (0.05 = 5 %).
+    /// Refine adaptively until the Zienkiewicz–Zhu estimate (a fraction, e.g. 0.05) is at most
+    /// this value.
     #[arg(long, allow_negative_numbers = true)]
     target_error: Option<f64>,
 }
@@ -140,7 +140,8 @@ struct GridcheckArgs {
 struct CompareArgs {
     /// Model file (TOML).
     model: PathBuf,
-    /// CSV with header x,y,temperature (m, m, °C); further columns are ignored.
+    /// CSV whose header starts x,y,temperature, x_m,y_m,temperature_c or node,x_m,y_m,temperature_c
+    /// (m, m, °C); further columns are ignored.
     #[arg(long)]
     grid_file: PathBuf,
     /// Element model's max_area for the check, m² (default: the model's [mesh] max_area).

@@ -14,7 +14,7 @@ pub const MAX_CYCLES: usize = 30;
 pub fn check_target_error(target: f64) -> Result<()> {
     if !(target.is_finite() && target > 0.0 && target < 1.0) {
         return Err(Error::input(format!(
-            "--target-error = {target}: give a fraction between 0 and 1 (0.05 = 5 %)"
+            "--target-error = {target}: give a fraction between 0 and 1 (e.g. 0.05)"
         )));
     }
     Ok(())
