@@ -12,8 +12,12 @@
 //! output: every file written (VTK, CSV, JSON) ─ report: every line printed on the console
 //! ```
 //!
-//! [`grid`] is the finite-difference (discrete mean-value) model used by the cross-checks;
-//! [`text`] holds number formatting shared by all stages.
+//! Beside the pipeline: [`geom`] holds the planar primitives every stage uses (exact orientation,
+//! areas, distances, point-in-ring, the one R-tree spatial index); [`grid`] is the
+//! finite-difference (discrete mean-value) model used by the cross-checks; [`text`] holds number
+//! formatting shared by all stages; [`error`] the two error kinds (input → exit 2, run → exit 1).
+//! The command-line tool (`src/main.rs`) is a thin shell of library calls; see DEVELOPERS.md for
+//! where each job lives.
 
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
