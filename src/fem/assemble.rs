@@ -82,7 +82,9 @@ pub fn assemble_matrix(section: &Section, mesh: &Mesh) -> Result<CsMat<f64>> {
 /// mesh and the load case.
 ///
 /// A node on fixed edges of two or more different fixed boundaries takes the arithmetic mean
-/// of those boundaries' temperatures (each boundary counted once).
+/// of those boundaries' temperatures (each boundary counted once). Used only by the tests today
+/// (with [`crate::solve::Factorized`]); a later change gives load cases a command-line
+/// interface.
 pub fn assemble_load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Result<Load> {
     check_mesh(section, mesh)?;
     check_load_case(section, case)?;

@@ -38,7 +38,8 @@ pub struct Solution {
     pub residual_relative: f64,
 }
 
-/// A solver for a fixed symmetric positive definite matrix.
+/// A solver for a fixed symmetric positive definite matrix. Chosen explicitly only by the
+/// tests today ([`Factorized::with_solver`]); the pipeline uses [`SparseCholesky`].
 pub trait LinearSolver {
     /// Short name for reports.
     fn name(&self) -> &'static str;
