@@ -134,9 +134,18 @@ pub fn min_angle_deg(p: [Point; 3]) -> f64 {
         .min(angle(p[2], p[0], p[1]))
 }
 
-/// A point written for a message: `(x, y)` with the shortest decimals that read back exactly.
+/// A point written for a message: `(x, y)`, each coordinate rounded to 12 significant digits and
+/// written with the fewest decimals that show them (so `-5.1000000000000005` prints `-5.1`).
 pub fn format_point(p: Point) -> String {
-    format!("({}, {})", p[0], p[1])
+    format!("({}, {})", short(p[0]), short(p[1]))
+}
+
+/// `x` rounded to 12 significant digits, as the shortest decimal of the rounded value.
+fn short(x: f64) -> String {
+    match format!("{x:.11e}").parse::<f64>() {
+        Ok(r) if x.is_finite() => format!("{r}"),
+        _ => format!("{x}"),
+    }
 }
 
 #[cfg(test)]
@@ -178,5 +187,10 @@ mod tests {
         assert_eq!(bbox(sq), [0.0, 0.0, 2.0, 1.0]);
         assert!((min_angle_deg([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]]) - 45.0).abs() < 1e-12);
         assert_eq!(format_point([0.1, -2.0]), "(0.1, -2)");
+        assert_eq!(format_point([-0.7, -5.1000000000000005]), "(-0.7, -5.1)");
+        assert_eq!(
+            format_point([123456.789012345, 1e-7]),
+            "(123456.789012, 0.0000001)"
+        );
     }
 }

@@ -42,8 +42,8 @@ impl<'a> Sampler<'a> {
                 Placement::Inside { .. } => (probe.at, false),
                 Placement::Snapped(q) => {
                     warnings.push(format!(
-                        "probes[{i}] \"{}\": point ({x}, {y}) lies {:e} m outside the discretised section; evaluated at the nearest boundary point ({}, {})",
-                        probe.name, q.distance, q.point[0], q.point[1]
+                        "probes[{i}] \"{}\": point ({x}, {y}) lies {:e} m outside the discretised section; evaluated at the nearest boundary point {}",
+                        probe.name, q.distance, crate::geom::format_point(q.point)
                     ));
                     (q.point, true)
                 }
@@ -120,17 +120,18 @@ impl<'a> Sampler<'a> {
         }
         if samples.is_empty() {
             return Err(Error::input(format!(
-                "lines[{i}] \"{name}\": none of its {} samples from ({}, {}) to ({}, {}) lies inside the section",
-                line.samples, line.from[0], line.from[1], line.to[0], line.to[1]
+                "lines[{i}] \"{name}\": none of its {} samples from {} to {} lies inside the section",
+                line.samples,
+                crate::geom::format_point(line.from),
+                crate::geom::format_point(line.to)
             )));
         }
         if let Some(&(k0, p0)) = skipped.first() {
             warnings.push(format!(
-                "lines[{i}] \"{name}\": {} of {} samples lie outside the section and were skipped (the first is sample {k0} at ({}, {}))",
+                "lines[{i}] \"{name}\": {} of {} samples lie outside the section and were skipped (the first is sample {k0} at {})",
                 skipped.len(),
                 line.samples,
-                p0[0],
-                p0[1]
+                crate::geom::format_point(p0)
             ));
         }
         if snapped > 0 {

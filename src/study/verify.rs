@@ -701,7 +701,10 @@ impl Solutions<'_> {
             Reading::GridTemperature(p) => grid()?.temperature_at(p).ok_or_else(|| {
                 case_error(
                     case,
-                    format!("grid model has no value at ({}, {})", p[0], p[1]),
+                    format!(
+                        "grid model has no value at {}",
+                        crate::geom::format_point(p)
+                    ),
                 )
             }),
         }

@@ -111,9 +111,10 @@ pub fn compare_grids(
             let placement = field.place(p, 1e-6 * model.spacing);
             let Some(t_fe) = field.temperature(&placement) else {
                 return Err(Error::run(format!(
-                    "grid check: grid node ({}, {}) of spacing {} m lies outside the element \
+                    "grid check: grid node {} of spacing {} m lies outside the element \
                      mesh of the same section",
-                    node.x, node.y, model.spacing
+                    crate::geom::format_point(p),
+                    model.spacing
                 )));
             };
             let t = sol.temperature[n];
