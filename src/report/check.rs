@@ -34,7 +34,7 @@ fn kind_line(k: &BoundaryKind) -> String {
 
 fn seg_len(r: &Ring, i: usize) -> f64 {
     let (a, b) = r.segment(i);
-    ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt()
+    crate::geom::distance(a, b)
 }
 
 /// Length of boundary `id` on the outline and the holes, as written.
