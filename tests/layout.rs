@@ -34,7 +34,7 @@ fn module_of(src: &Path, file: &Path) -> Option<String> {
     (name != "lib" && name != "main").then_some(name)
 }
 
-/// Library code of a file: a `#[cfg(test)]` item that is a declaration (`mod tests;`, a `#[path]`
+/// Library code of a file, comments removed: a `#[cfg(test)]` item that is a declaration (`mod tests;`, a `#[path]`
 /// line) is dropped; an inline `#[cfg(test)]` block ends the library code (this crate keeps inline
 /// test modules at the end of a file).
 fn library_code(text: &str) -> String {
@@ -42,7 +42,8 @@ fn library_code(text: &str) -> String {
     let mut lines = text.lines();
     while let Some(line) = lines.next() {
         if line.trim() != "#[cfg(test)]" {
-            code.push_str(line);
+            // Comments (docs included) may name any module; only code counts.
+            code.push_str(line.split("//").next().unwrap_or(""));
             code.push('\n');
             continue;
         }
