@@ -22,6 +22,10 @@ struct Cli {
     /// caution and errors still go to stderr.
     #[arg(long, global = true)]
     quiet: bool,
+    /// When another xsheat run is writing the same --out directory, wait for it to finish
+    /// instead of exiting with status 1.
+    #[arg(long, global = true)]
+    wait: bool,
     #[command(subcommand)]
     command: Command,
 }
@@ -73,7 +77,7 @@ struct CheckArgs {
 struct MeshArgs {
     /// Model file (TOML).
     model: PathBuf,
-    /// Output file (.vtu).
+    /// Output file (.vtu): a new path or a regular file, never an input of the run.
     #[arg(long)]
     out: PathBuf,
     #[command(flatten)]
@@ -84,7 +88,7 @@ struct MeshArgs {
 struct SolveArgs {
     /// Model file (TOML).
     model: PathBuf,
-    /// Output directory (created if missing; only the files written are replaced).
+    /// Output directory: new, empty or an earlier xsheat result set; replaced as a whole.
     #[arg(long)]
     out: PathBuf,
     #[command(flatten)]
@@ -158,6 +162,8 @@ struct CompareArgs {
 /// only result lines, the caution and errors.
 struct Console {
     quiet: bool,
+    /// `--wait`: wait for another run's lock on an output directory instead of failing.
+    wait: bool,
 }
 
 impl Console {
@@ -202,9 +208,10 @@ fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
 
 fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
+    let target = output::check_out_file(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
     let m = run::mesh(&p, &o)?;
-    output::write_file_atomic(&a.out, &output::mesh_vtu(&m)?)?;
+    output::write_file_atomic(&target, &output::mesh_vtu(&m)?)?;
     con.table(&report::mesh_report(&p.section, &m));
     con.warnings(&p.warnings());
     con.result(&format!("wrote {}", a.out.display()));
@@ -217,7 +224,9 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
+    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    out.lock(con.wait)?;
     let solved = match a.target_error {
         Some(e) => adaptive::solve_adaptive(p, &o, e)?,
         None => run::solve(p, &o)?,
@@ -229,7 +238,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         con.caution();
         return Err(e);
     }
-    let written = output::solve_files(&solved)?.commit(&a.out)?;
+    let written = out.commit(&output::solve_files(&solved)?)?;
     con.result(&wrote(written.len(), &a.out));
     con.caution();
     Ok(())
@@ -251,9 +260,11 @@ fn report_failed_checks(solved: &run::Solved, con: &Console) {
 fn convergence(a: ConvergeArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     converge::check_levels(a.levels)?;
+    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    out.lock(con.wait)?;
     let study = converge::convergence_study(&p, a.levels, &o)?;
-    let written = output::convergence_files(&study)?.commit(&a.out)?;
+    let written = out.commit(&output::convergence_files(&study)?)?;
     con.table(&report::convergence_report(&study));
     con.warnings(&study.warnings);
     con.result(&wrote(written.len(), &a.out));
@@ -262,11 +273,19 @@ fn convergence(a: ConvergeArgs, con: &Console) -> xsheat::Result<()> {
 }
 
 fn verification(a: VerifyArgs, con: &Console) -> xsheat::Result<()> {
+    let mut out = match &a.out {
+        Some(dir) => {
+            let mut d = output::ResultDir::check(dir, &[])?;
+            d.lock(con.wait)?;
+            Some(d)
+        }
+        None => None,
+    };
     let suite = verify::run_suite()?;
     con.table(&report::verify_report(&suite));
-    if let Some(dir) = a.out {
-        let written = output::verify_files(&suite)?.commit(&dir)?;
-        con.result(&wrote(written.len(), &dir));
+    if let Some(out) = &mut out {
+        let written = out.commit(&output::verify_files(&suite)?)?;
+        con.result(&wrote(written.len(), out.path()));
     }
     con.caution();
     if !suite.all_passed() {
@@ -283,9 +302,11 @@ fn gridcheck(a: GridcheckArgs, con: &Console) -> xsheat::Result<()> {
     let hs = crosscheck::spacings(&a.spacing, a.levels)?;
     let o = a.limit.options()?;
     crosscheck::check_fe_max_area(a.fe_max_area)?;
+    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    out.lock(con.wait)?;
     let check = crosscheck::grid_check(p, &o, a.fe_max_area, &hs)?;
-    let written = output::gridcheck_outputs(&check)?.commit(&a.out)?;
+    let written = out.commit(&output::gridcheck_outputs(&check)?)?;
     con.table(&report::gridcheck_report(&check));
     con.warnings(&check.warnings);
     con.result(&wrote(written.len(), &a.out));
@@ -296,11 +317,13 @@ fn gridcheck(a: GridcheckArgs, con: &Console) -> xsheat::Result<()> {
 fn compare(a: CompareArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     crosscheck::check_fe_max_area(a.fe_max_area)?;
+    let mut out = output::ResultDir::check(&a.out, &[&a.model, &a.grid_file])?;
     let p = run::prepare(&a.model)?;
     let user = crosscheck::read_user_grid(&a.grid_file)?;
+    out.lock(con.wait)?;
     let solved = crosscheck::solve_element(p, &o, a.fe_max_area)?;
     let c = crosscheck::compare(&solved, &user, a.fe_max_area.is_some())?;
-    let written = output::compare_outputs(&c)?.commit(&a.out)?;
+    let written = out.commit(&output::compare_outputs(&c)?)?;
     con.table(&report::compare_report(&c));
     con.warnings(&c.warnings);
     con.result(&wrote(written.len(), &a.out));
@@ -309,7 +332,10 @@ fn compare(a: CompareArgs, con: &Console) -> xsheat::Result<()> {
 }
 
 fn execute(cli: Cli) -> xsheat::Result<()> {
-    let con = Console { quiet: cli.quiet };
+    let con = Console {
+        quiet: cli.quiet,
+        wait: cli.wait,
+    };
     match cli.command {
         Command::Check(a) => check(a, &con),
         Command::Mesh(a) => mesh(a, &con),

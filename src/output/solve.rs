@@ -23,19 +23,23 @@ pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
     let model = s.resolved_json();
-    set.add(
-        "summary.json",
-        output::summary_json(&output::SummaryInputs {
-            section: s,
-            mesh: &sv.mesh,
-            results: &sv.results,
-            warnings: &sv.warnings,
-            checks: &sv.checks,
-            error_estimate: &sv.error_estimate,
-            adaptivity: &sv.adaptivity,
-            timings: &sv.timings,
-            model: &model,
-        })?,
+    let files = set.manifest();
+    set.add_manifest_file(
+        output::SUMMARY_FILE,
+        output::summary_json_with_files(
+            &output::SummaryInputs {
+                section: s,
+                mesh: &sv.mesh,
+                results: &sv.results,
+                warnings: &sv.warnings,
+                checks: &sv.checks,
+                error_estimate: &sv.error_estimate,
+                adaptivity: &sv.adaptivity,
+                timings: &sv.timings,
+                model: &model,
+            },
+            &files,
+        )?,
     );
     Ok(set)
 }

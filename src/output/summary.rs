@@ -1,6 +1,7 @@
 //! The run summary (summary.json): typed records of every part, written in a fixed key order.
 
 use super::json::{ErrorEstimateOut, OrderedMap, json_bytes, unit_legend};
+use super::manifest::ManifestEntry;
 use crate::CAUTION;
 use crate::error::{Error, Result};
 use crate::mesh::Mesh;
@@ -182,6 +183,9 @@ struct Summary<'a> {
     warnings: &'a [String],
     checks: Vec<CheckOut<'a>>,
     model: &'a Value,
+    /// The manifest: every other file of the result set (absent from a bare summary).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    files: Option<&'a [ManifestEntry]>,
     run: RunOut,
 }
 
@@ -304,9 +308,23 @@ fn run_out(t: &Timings) -> RunOut {
 
 /// The run summary as pretty-printed JSON with a trailing newline. Keys appear in a fixed
 /// order (identification, unit legend, mesh, materials, results, error estimate, adaptivity,
-/// warnings, checks, model, run); per-boundary, probe and line entries keep the order of
+/// warnings, checks, model, files, run); per-boundary, probe and line entries keep the order of
 /// `results`.
 pub fn summary_json(inputs: &SummaryInputs<'_>) -> Result<Vec<u8>> {
+    summary_bytes(inputs, None)
+}
+
+/// [`summary_json`] with the result set's manifest: a top-level `files` array (before `run`)
+/// of `{ "path", "bytes", "sha256" }` for every other file of the set, as
+/// [`OutputSet::manifest`](super::OutputSet::manifest) gives them.
+pub fn summary_json_with_files(
+    inputs: &SummaryInputs<'_>,
+    files: &[ManifestEntry],
+) -> Result<Vec<u8>> {
+    summary_bytes(inputs, Some(files))
+}
+
+fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) -> Result<Vec<u8>> {
     let SummaryInputs {
         section,
         mesh,
@@ -351,6 +369,7 @@ pub fn summary_json(inputs: &SummaryInputs<'_>) -> Result<Vec<u8>> {
         warnings: inputs.warnings,
         checks: checks(inputs.checks),
         model: inputs.model,
+        files,
         run: run_out(inputs.timings),
     };
     json_bytes(&summary, "summary JSON")

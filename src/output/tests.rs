@@ -369,6 +369,19 @@ fn summary_has_keys_in_order() {
         timings: &timings,
         model: &model,
     };
+    let files = [ManifestEntry::of("nodes.csv", b"node\n")];
+    let with_files = summary_json_with_files(&inputs, &files).unwrap();
+    let v: Value = serde_json::from_slice(&with_files).unwrap();
+    assert_eq!(v["files"][0]["path"], json!("nodes.csv"));
+    assert_eq!(v["files"][0]["bytes"], json!(5));
+    // `printf 'node\n' | sha256sum`
+    assert_eq!(
+        v["files"][0]["sha256"],
+        json!("389b46f0445738f6b517def165c3e490efa2eb8825c695b8ac8221565e78e4fa")
+    );
+    let text = String::from_utf8(with_files).unwrap();
+    assert!(text.find("\n  \"model\":") < text.find("\n  \"files\":"));
+    assert!(text.find("\n  \"files\":") < text.find("\n  \"run\":"));
     let bytes = summary_json(&inputs).unwrap();
     assert!(bytes.ends_with(b"}\n"));
     assert_eq!(bytes, summary_json(&inputs).unwrap());
@@ -505,23 +518,51 @@ fn writers_are_deterministic() {
 }
 
 #[test]
-fn output_set_writes_all_and_leaves_no_temporaries() {
+fn output_set_replaces_the_whole_set_and_writes_a_manifest() {
     let dir = scratch_dir("ok").join("nested");
-    fs::create_dir_all(&dir).unwrap();
-    fs::write(dir.join("keep.txt"), b"other").unwrap();
-    fs::write(dir.join("a.csv"), b"old").unwrap();
     let mut set = OutputSet::new();
     set.add("a.csv", b"new a".to_vec());
     set.add("b.json", b"{}\n".to_vec());
+    // Creates a missing directory (and its parent); manifest.json is added.
     let written = set.commit(&dir).unwrap();
-    assert_eq!(written, vec![dir.join("a.csv"), dir.join("b.json")]);
-    assert_eq!(dir_listing(&dir), ["a.csv", "b.json", "keep.txt"]);
-    assert_eq!(fs::read(dir.join("a.csv")).unwrap(), b"new a");
-    assert_eq!(fs::read(dir.join("keep.txt")).unwrap(), b"other");
-    // Creates a missing directory.
-    let fresh = dir.join("deeper");
-    set.commit(&fresh).unwrap();
-    assert_eq!(dir_listing(&fresh), ["a.csv", "b.json"]);
+    assert_eq!(
+        written,
+        vec![
+            dir.join("a.csv"),
+            dir.join("b.json"),
+            dir.join("manifest.json")
+        ]
+    );
+    assert_eq!(dir_listing(&dir), ["a.csv", "b.json", "manifest.json"]);
+    let m: Value = serde_json::from_slice(&fs::read(dir.join("manifest.json")).unwrap()).unwrap();
+    assert_eq!(m["schema"], json!(MANIFEST_SCHEMA));
+    assert_eq!(m["files"][0]["path"], json!("a.csv"));
+    assert_eq!(m["files"][0]["bytes"], json!(5));
+    // SHA-256 of "new a", computed independently with `printf 'new a' | sha256sum`.
+    assert_eq!(
+        m["files"][0]["sha256"],
+        json!("fbb6b30b41732026a9073fd355103e207f6b3c7c1adc086724df42e286417adf")
+    );
+    // An earlier set is replaced as a whole: files it had and the new one lacks are gone.
+    let mut smaller = OutputSet::new();
+    smaller.add("a.csv", b"newer".to_vec());
+    smaller.commit(&dir).unwrap();
+    assert_eq!(dir_listing(&dir), ["a.csv", "manifest.json"]);
+    assert_eq!(fs::read(dir.join("a.csv")).unwrap(), b"newer");
+    // No staging directory is left beside it; only the lock file.
+    let parent = dir.parent().unwrap();
+    assert_eq!(dir_listing(parent), [".nested.xsheat-lock", "nested"]);
+    // A foreign file is refused by name and nothing changes.
+    fs::write(dir.join("keep.txt"), b"other").unwrap();
+    let e = set.commit(&dir).unwrap_err();
+    assert!(matches!(e, Error::Input(_)), "{e}");
+    assert!(e.message().contains("keep.txt"), "{e}");
+    assert_eq!(fs::read(dir.join("a.csv")).unwrap(), b"newer");
+    // An empty directory is accepted.
+    let empty = parent.join("empty");
+    fs::create_dir_all(&empty).unwrap();
+    set.commit(&empty).unwrap();
+    assert_eq!(dir_listing(&empty), ["a.csv", "b.json", "manifest.json"]);
     let _ = fs::remove_dir_all(scratch_dir("ok"));
 }
 
@@ -533,46 +574,134 @@ fn output_set_failure_leaves_no_new_file() {
     set.add("a.csv", b"a".to_vec());
     set.add("b.csv", b"b".to_vec());
 
-    // The output "directory" is an existing regular file.
+    // The output "directory" is an existing regular file: a bad --out (exit 2).
     let file = root.join("plain");
     fs::write(&file, b"x").unwrap();
     let e = set.commit(&file).unwrap_err();
-    assert!(matches!(e, Error::Run(_)));
+    assert!(matches!(e, Error::Input(_)));
     assert!(e.message().contains("plain"), "{e}");
     assert_eq!(fs::read(&file).unwrap(), b"x");
 
-    // A directory stands where the second file should go.
+    // A directory in DIR is never part of a set: refused by name.
     let dir = root.join("out");
     fs::create_dir_all(dir.join("b.csv")).unwrap();
     let e = set.commit(&dir).unwrap_err();
     assert!(e.message().contains("b.csv"), "{e}");
     assert_eq!(dir_listing(&dir), ["b.csv"]);
 
-    // A temporary cannot be created for the second file (its name, `.NAME.XXXXXX.tmp`, is
-    // longer than the 255 bytes a file name may have, while NAME itself is not): the first
-    // file's temporary is cleaned up and nothing is created.
+    // A file cannot be staged (its name is longer than the 255 bytes a file name may have):
+    // the staging directory is removed and DIR is not created.
     let dir2 = root.join("out2");
-    fs::create_dir_all(&dir2).unwrap();
-    let long = "b".repeat(250);
+    let long = "b".repeat(300);
     let mut set2 = OutputSet::new();
     set2.add("a.csv", b"a".to_vec());
     set2.add(long.clone(), b"b".to_vec());
     let e = set2.commit(&dir2).unwrap_err();
     assert!(e.message().contains(&long), "{e}");
-    assert!(e.message().contains("no output file was changed"), "{e}");
-    assert!(dir_listing(&dir2).is_empty(), "{:?}", dir_listing(&dir2));
+    assert!(e.message().contains("was not changed"), "{e}");
+    assert!(!dir2.exists());
+    assert!(
+        dir_listing(&root).iter().all(|n| !n.contains("stage")),
+        "{:?}",
+        dir_listing(&root)
+    );
 
     // Bad names are refused before anything is written.
-    for bad in ["", "..", "sub/x.csv"] {
+    for bad in ["", "..", "sub/x.csv", "manifest.json"] {
         let mut s = OutputSet::new();
         s.add(bad, vec![]);
-        assert!(s.commit(root.join("never")).is_err());
+        assert!(s.commit(root.join("never")).is_err(), "{bad:?}");
     }
     let mut dup = OutputSet::new();
     dup.add("x", vec![]);
     dup.add("x", vec![]);
     assert!(dup.commit(root.join("never")).is_err());
     assert!(!root.join("never").exists());
+    let _ = fs::remove_dir_all(&root);
+}
+
+#[test]
+fn leftover_staging_directories_are_removed_by_the_next_commit() {
+    let root = scratch_dir("leftover");
+    fs::create_dir_all(root.join(".out.xsheat-stage-1-0/sub")).unwrap();
+    fs::write(root.join(".out.xsheat-stage-1-0/sub/big.vtu"), b"x").unwrap();
+    fs::create_dir_all(root.join("out/.xsheat-stage-2-0")).unwrap();
+    // Another directory's staging area is not ours to remove.
+    fs::create_dir_all(root.join(".other.xsheat-stage-1-0")).unwrap();
+    let mut set = OutputSet::new();
+    set.add("a.csv", b"a".to_vec());
+    set.commit(root.join("out")).unwrap();
+    assert_eq!(
+        dir_listing(&root),
+        [".other.xsheat-stage-1-0", ".out.xsheat-lock", "out"]
+    );
+    assert_eq!(dir_listing(&root.join("out")), ["a.csv", "manifest.json"]);
+    let _ = fs::remove_dir_all(&root);
+}
+
+#[test]
+fn a_held_lock_refuses_a_second_writer_with_its_process_id() {
+    let root = scratch_dir("lock");
+    let out = root.join("out");
+    let mut first = ResultDir::check(&out, &[]).unwrap();
+    first.lock(false).unwrap();
+    let pid = fs::read_to_string(root.join(".out.xsheat-lock")).unwrap();
+    assert_eq!(pid.trim(), std::process::id().to_string());
+    let mut set = OutputSet::new();
+    set.add("a.csv", b"a".to_vec());
+    let e = set.commit(&out).unwrap_err();
+    assert!(matches!(e, Error::Run(_)), "{e}");
+    let want = format!("is being written by process {}", std::process::id());
+    assert!(e.message().contains(&want), "{e}");
+    assert!(!out.exists());
+    first.commit(&set).unwrap();
+    drop(first);
+    set.commit(&out).unwrap();
+    let _ = fs::remove_dir_all(&root);
+}
+
+#[cfg(unix)]
+#[test]
+fn out_file_targets_are_checked() {
+    let root = scratch_dir("outfile");
+    fs::create_dir_all(&root).unwrap();
+    let model = root.join("model.toml");
+    fs::write(&model, b"x").unwrap();
+    let link = root.join("link.vtu");
+    let old = root.join("old.vtu");
+    fs::write(&old, b"old").unwrap();
+    std::os::unix::fs::symlink(&old, &link).unwrap();
+    let model_link = root.join("model-link.toml");
+    std::os::unix::fs::symlink(&model, &model_link).unwrap();
+    let m: &[&Path] = &[&model];
+    assert_eq!(
+        check_out_file(&root.join("new.vtu"), m).unwrap(),
+        root.join("new.vtu")
+    );
+    assert_eq!(check_out_file(&old, m).unwrap(), old);
+    // A link to a regular file writes the file the link points to; the link stays.
+    assert_eq!(
+        check_out_file(&link, m).unwrap(),
+        fs::canonicalize(&old).unwrap()
+    );
+    let dotted = root.join("sub/../model.toml");
+    fs::create_dir_all(root.join("sub")).unwrap();
+    let cases: [(PathBuf, &str); 6] = [
+        (root.clone(), "a directory"),
+        (
+            PathBuf::from(format!("{}/x/", root.display())),
+            "ends in '/'",
+        ),
+        (PathBuf::from("/dev/null"), "a device"),
+        (model.clone(), "is the input"),
+        (model_link, "is the input"),
+        (dotted, "is the input"),
+    ];
+    for (p, why) in cases {
+        let e = check_out_file(&p, m).unwrap_err();
+        assert!(matches!(e, Error::Input(_)), "{}: {e}", p.display());
+        assert!(e.message().contains(why), "{}: {e}", p.display());
+    }
     let _ = fs::remove_dir_all(&root);
 }
 
