@@ -276,3 +276,25 @@ impl Mesh {
         Ok(())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn max_triangles_above_the_documented_maximum_is_refused() {
+        assert!(MeshOptions::with_max_triangles(MAX_TRIANGLES_LIMIT).is_ok());
+        for n in [MAX_TRIANGLES_LIMIT + 1, 1usize << 63, usize::MAX] {
+            let e = MeshOptions::with_max_triangles(n).unwrap_err();
+            assert_eq!(e.exit_code(), 2);
+            assert!(e.message().contains("100000000"), "{}", e.message());
+        }
+    }
+
+    #[test]
+    fn ring_points_count_in_the_estimate() {
+        assert_eq!(estimate_point_triangles(0), 0.0);
+        // A million-point ring asks for millions of triangles whatever the area limit.
+        assert!(estimate_point_triangles(1_000_000) > 5.0e6);
+    }
+}

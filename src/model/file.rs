@@ -1,9 +1,9 @@
 //! The model file: serde types that mirror the TOML one to one, reading ([`parse`], [`load`])
 //! with errors that name the line, column and offending key.
 
+use super::MAX_MODEL_FILE_BYTES;
 use super::Section;
 use super::suggest::suggest;
-use super::MAX_MODEL_FILE_BYTES;
 use crate::error::{Error, MAX_QUOTED_CHARS, Result, printable};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -98,7 +98,7 @@ pub struct RingFile {
 #[serde(deny_unknown_fields)]
 pub struct CircleFile {
     /// Centre, m.
-    #[serde(deserialize_with = "point")]
+    #[serde(deserialize_with = "point_center")]
     pub center: [f64; 2],
     /// Radius, m.
     pub radius: f64,
@@ -138,7 +138,7 @@ pub struct ProbeFile {
     /// Probe name.
     pub name: String,
     /// Position, m.
-    #[serde(deserialize_with = "point")]
+    #[serde(deserialize_with = "point_at")]
     pub at: [f64; 2],
 }
 
@@ -149,54 +149,72 @@ pub struct LineFile {
     /// Line name.
     pub name: String,
     /// Start point, m.
-    #[serde(deserialize_with = "point")]
+    #[serde(deserialize_with = "point_from")]
     pub from: [f64; 2],
     /// End point, m.
-    #[serde(deserialize_with = "point")]
+    #[serde(deserialize_with = "point_to")]
     pub to: [f64; 2],
     /// Number of sample points, at least 2.
     pub samples: usize,
 }
 
 /// A point as written: exactly two numbers `[x, y]` (serde's `[f64; 2]` would ignore extra
-/// elements).
+/// elements). The error names the key.
 struct Point2([f64; 2]);
 
-impl<'de> Deserialize<'de> for Point2 {
-    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
-        struct Visit;
-        impl<'de> serde::de::Visitor<'de> for Visit {
-            type Value = Point2;
-            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
-                f.write_str("a point of exactly two numbers [x, y]")
-            }
-            fn visit_seq<A: serde::de::SeqAccess<'de>>(
-                self,
-                mut seq: A,
-            ) -> std::result::Result<Point2, A::Error> {
-                let mut p = [0.0; 2];
-                for (i, v) in p.iter_mut().enumerate() {
-                    *v = seq
-                        .next_element::<f64>()?
-                        .ok_or_else(|| serde::de::Error::invalid_length(i, &self))?;
-                }
-                let mut n = 2;
-                while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {
-                    n += 1;
-                }
-                if n != 2 {
-                    return Err(serde::de::Error::invalid_length(n, &self));
-                }
-                Ok(Point2(p))
-            }
+/// Reads one point for the key `key`.
+struct PointVisitor(&'static str);
+
+impl<'de> serde::de::Visitor<'de> for PointVisitor {
+    type Value = Point2;
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        write!(f, "`{}`: a point of exactly two numbers [x, y]", self.0)
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(
+        self,
+        mut seq: A,
+    ) -> std::result::Result<Point2, A::Error> {
+        let mut p = [0.0; 2];
+        for (i, v) in p.iter_mut().enumerate() {
+            *v = seq
+                .next_element::<f64>()?
+                .ok_or_else(|| serde::de::Error::invalid_length(i, &self))?;
         }
-        d.deserialize_seq(Visit)
+        let mut n = 2;
+        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {
+            n += 1;
+        }
+        if n != 2 {
+            return Err(serde::de::Error::invalid_length(n, &self));
+        }
+        Ok(Point2(p))
     }
 }
 
-/// Deserializes one point, exactly two numbers.
-fn point<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
-    Point2::deserialize(d).map(|p| p.0)
+impl<'de> Deserialize<'de> for Point2 {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        d.deserialize_seq(PointVisitor("points"))
+    }
+}
+
+/// Deserializes the point of key `at`, exactly two numbers.
+fn point_at<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("at")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `from`, exactly two numbers.
+fn point_from<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("from")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `to`, exactly two numbers.
+fn point_to<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("to")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `center`, exactly two numbers.
+fn point_center<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("center")).map(|p| p.0)
 }
 
 /// Deserializes an optional list of points, each exactly two numbers.
@@ -257,7 +275,11 @@ fn quoted_line(line: &str, column: usize) -> String {
         .min(n - MAX_QUOTED_CHARS);
     let cut: String = line.chars().skip(start).take(MAX_QUOTED_CHARS).collect();
     let head = if start > 0 { "…" } else { "" };
-    let tail = if start + MAX_QUOTED_CHARS < n { "…" } else { "" };
+    let tail = if start + MAX_QUOTED_CHARS < n {
+        "…"
+    } else {
+        ""
+    };
     format!("{head}{}{tail}", printable(&cut))
 }
 
@@ -283,9 +305,8 @@ pub fn load(path: &std::path::Path) -> Result<(ModelFile, Section)> {
 /// metadata does not tell, such as pipes).
 fn read_model_text(path: &std::path::Path) -> Result<String> {
     use std::io::Read;
-    let cannot = |e: std::io::Error| {
-        Error::input(format!("cannot read model file {}: {e}", path.display()))
-    };
+    let cannot =
+        |e: std::io::Error| Error::input(format!("cannot read model file {}: {e}", path.display()));
     let too_big = || {
         Error::input(format!(
             "model file {}: larger than the limit of {MAX_MODEL_FILE_BYTES} bytes (64 MiB)",

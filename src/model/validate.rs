@@ -2,15 +2,15 @@
 //! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines), or an
 //! error naming the offending item.
 
+use super::ring::ring_circle_segments;
 use super::ring::{RingContext, build_ring, raw_area};
 use super::suggest::{did_you_mean, known_list, suggest};
-use super::ring::ring_circle_segments;
 use super::{
-    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, DEFAULT_MIN_ANGLE, Line,
-    MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS,
-    MAX_CONDUCTIVITY, MAX_COORD, MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE,
-    MAX_NAME_CHARS, MAX_RING_POINTS, MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings,
-    ModelFile, Probe, Region, Ring, RingFile, Section, Validated,
+    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, DEFAULT_MIN_ANGLE, Line, MAX_ABS_FLUX,
+    MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS, MAX_CONDUCTIVITY, MAX_COORD,
+    MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE, MAX_NAME_CHARS, MAX_RING_POINTS,
+    MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings, ModelFile, Probe, Region, Ring,
+    RingFile, Section, Validated,
 };
 use crate::error::{Error, Result, printable};
 use std::collections::BTreeMap;
@@ -62,7 +62,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
 /// and safe as a file name); `label` names the item in the error.
 fn check_name(label: &str, name: &str, what: &str) -> Result<()> {
     if name.is_empty() {
-        return Err(Error::input(format!("{label}: a {what} name may not be empty")));
+        return Err(Error::input(format!(
+            "{label}: a {what} name may not be empty"
+        )));
     }
     let n = name.chars().count();
     if n > MAX_NAME_CHARS {
