@@ -71,9 +71,10 @@ fn used_vertices(pslg: &Pslg) -> (Vec<usize>, Vec<usize>) {
     (used_list, to_cdt)
 }
 
-/// Triangles the ring points and the sized boundaries alone ask for ([`super::estimate_point_triangles`]
-/// per input point, 4 per `size` of length); refused above the limit before splitting the
-/// pieces (a tiny size would otherwise allocate millions of vertices first).
+/// Triangles the ring points and the sized boundaries alone ask for
+/// ([`super::estimate_point_triangles`] per input point, 4 per `size` of length); refused above
+/// the limit before splitting the pieces (a tiny size would otherwise allocate millions of
+/// vertices first).
 fn boundary_estimate(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<f64> {
     let sized: f64 = (0..pslg.pieces.len())
         .filter_map(|i| {
