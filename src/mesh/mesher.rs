@@ -71,19 +71,23 @@ fn used_vertices(pslg: &Pslg) -> (Vec<usize>, Vec<usize>) {
     (used_list, to_cdt)
 }
 
-/// Triangles the sized boundaries alone ask for; refused above the limit before splitting the
-/// pieces (a tiny size would otherwise allocate millions of vertices first).
+/// Triangles the ring points and the sized boundaries alone ask for
+/// ([`super::estimate_point_triangles`] per input point, 4 per `size` of length); refused above
+/// the limit before splitting the pieces (a tiny size would otherwise allocate millions of
+/// vertices first).
 fn boundary_estimate(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Result<f64> {
-    let estimate: f64 = (0..pslg.pieces.len())
+    let sized: f64 = (0..pslg.pieces.len())
         .filter_map(|i| {
             let s = piece_size(section, pslg, i)?;
             let p = &pslg.pieces[i];
             Some(4.0 * geom::distance(pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]) / s)
         })
         .sum();
+    let points = pslg.vertices.len();
+    let estimate = sized + super::estimate_point_triangles(points);
     if estimate > opts.max_triangles as f64 {
         return Err(Error::input(format!(
-            "mesh: the boundaries' size would give about {estimate:.0} triangles along the boundaries alone, above the limit of {}; raise the boundaries' size or pass --max-triangles",
+            "mesh: the rings' {points} points and the boundaries' size would give about {estimate:.0} triangles along the boundaries alone, above the limit of {} (--max-triangles); use fewer ring points, raise the boundaries' size or pass --max-triangles",
             opts.max_triangles
         )));
     }

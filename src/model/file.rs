@@ -1,9 +1,10 @@
 //! The model file: serde types that mirror the TOML one to one, reading ([`parse`], [`load`])
 //! with errors that name the line, column and offending key.
 
+use super::MAX_MODEL_FILE_BYTES;
 use super::Section;
 use super::suggest::suggest;
-use crate::error::{Error, Result};
+use crate::error::{Error, MAX_QUOTED_CHARS, Result, printable};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -75,7 +76,11 @@ pub struct RingFile {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub material: Option<String>,
     /// Corner points, m.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "opt_points"
+    )]
     pub points: Option<Vec<[f64; 2]>>,
     /// A circle instead of points.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -93,6 +98,7 @@ pub struct RingFile {
 #[serde(deny_unknown_fields)]
 pub struct CircleFile {
     /// Centre, m.
+    #[serde(deserialize_with = "point_center")]
     pub center: [f64; 2],
     /// Radius, m.
     pub radius: f64,
@@ -132,6 +138,7 @@ pub struct ProbeFile {
     /// Probe name.
     pub name: String,
     /// Position, m.
+    #[serde(deserialize_with = "point_at")]
     pub at: [f64; 2],
 }
 
@@ -142,11 +149,80 @@ pub struct LineFile {
     /// Line name.
     pub name: String,
     /// Start point, m.
+    #[serde(deserialize_with = "point_from")]
     pub from: [f64; 2],
     /// End point, m.
+    #[serde(deserialize_with = "point_to")]
     pub to: [f64; 2],
     /// Number of sample points, at least 2.
     pub samples: usize,
+}
+
+/// A point as written: exactly two numbers `[x, y]` (serde's `[f64; 2]` would ignore extra
+/// elements). The error names the key.
+struct Point2([f64; 2]);
+
+/// Reads one point for the key `key`.
+struct PointVisitor(&'static str);
+
+impl<'de> serde::de::Visitor<'de> for PointVisitor {
+    type Value = Point2;
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        write!(f, "`{}`: a point of exactly two numbers [x, y]", self.0)
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(
+        self,
+        mut seq: A,
+    ) -> std::result::Result<Point2, A::Error> {
+        let mut p = [0.0; 2];
+        for (i, v) in p.iter_mut().enumerate() {
+            *v = seq
+                .next_element::<f64>()?
+                .ok_or_else(|| serde::de::Error::invalid_length(i, &self))?;
+        }
+        let mut n = 2;
+        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {
+            n += 1;
+        }
+        if n != 2 {
+            return Err(serde::de::Error::invalid_length(n, &self));
+        }
+        Ok(Point2(p))
+    }
+}
+
+impl<'de> Deserialize<'de> for Point2 {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        d.deserialize_seq(PointVisitor("points"))
+    }
+}
+
+/// Deserializes the point of key `at`, exactly two numbers.
+fn point_at<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("at")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `from`, exactly two numbers.
+fn point_from<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("from")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `to`, exactly two numbers.
+fn point_to<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("to")).map(|p| p.0)
+}
+
+/// Deserializes the point of key `center`, exactly two numbers.
+fn point_center<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("center")).map(|p| p.0)
+}
+
+/// Deserializes an optional list of points, each exactly two numbers.
+fn opt_points<'de, D: serde::Deserializer<'de>>(
+    d: D,
+) -> std::result::Result<Option<Vec<[f64; 2]>>, D::Error> {
+    let v: Option<Vec<Point2>> = Option::deserialize(d)?;
+    Ok(v.map(|v| v.into_iter().map(|p| p.0).collect()))
 }
 
 /// Parse the TOML text of a model file. Syntax errors, unknown keys and wrong types are
@@ -160,7 +236,7 @@ pub fn parse(text: &str) -> Result<ModelFile> {
         }
         match e.span() {
             Some(span) => located_error(text, span.start, &msg),
-            None => Error::input(format!("model file: {msg}")),
+            None => Error::input(format!("model file: {}", printable_message(&msg))),
         }
     })
 }
@@ -173,8 +249,38 @@ fn located_error(text: &str, start: usize, msg: &str) -> Error {
     let column = text[line_start..start].chars().count() + 1;
     let line_text = text[line_start..].lines().next().unwrap_or("").trim_end();
     Error::input(format!(
-        "model file, line {line}, column {column}: {msg}\n  {line} | {line_text}"
+        "model file, line {line}, column {column}: {}\n  {line} | {}",
+        printable_message(msg),
+        quoted_line(line_text, column)
     ))
+}
+
+/// A parser message made safe to print: each line through [`printable`] (control characters
+/// escaped, long text cut), at most a few lines.
+fn printable_message(msg: &str) -> String {
+    let lines: Vec<String> = msg.lines().take(4).map(printable).collect();
+    lines.join("\n")
+}
+
+/// The offending line as quoted in a message: at most [`MAX_QUOTED_CHARS`] characters,
+/// centred on the column when the line is longer (cut ends shown as "…"), control characters
+/// escaped.
+fn quoted_line(line: &str, column: usize) -> String {
+    let n = line.chars().count();
+    if n <= MAX_QUOTED_CHARS {
+        return printable(line);
+    }
+    let start = column
+        .saturating_sub(MAX_QUOTED_CHARS / 2)
+        .min(n - MAX_QUOTED_CHARS);
+    let cut: String = line.chars().skip(start).take(MAX_QUOTED_CHARS).collect();
+    let head = if start > 0 { "…" } else { "" };
+    let tail = if start + MAX_QUOTED_CHARS < n {
+        "…"
+    } else {
+        ""
+    };
+    format!("{head}{}{tail}", printable(&cut))
 }
 
 /// For serde's "unknown field `x`, expected one of `a`, `b`" message: "; did you mean `a`?".
@@ -188,9 +294,41 @@ fn unknown_key_hint(msg: &str) -> Option<String> {
 
 /// Read, parse and validate a model file.
 pub fn load(path: &std::path::Path) -> Result<(ModelFile, Section)> {
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| Error::input(format!("cannot read model file {}: {e}", path.display())))?;
+    let text = read_model_text(path)?;
     let file = parse(&text)?;
     let section = super::validate(&file)?;
     Ok((file, section))
+}
+
+/// The model file's text, refused above [`MAX_MODEL_FILE_BYTES`] before it is read (by its
+/// size on disk, and by a read that stops one byte past the limit, for files whose size the
+/// metadata does not tell, such as pipes).
+fn read_model_text(path: &std::path::Path) -> Result<String> {
+    use std::io::Read;
+    let cannot =
+        |e: std::io::Error| Error::input(format!("cannot read model file {}: {e}", path.display()));
+    let too_big = || {
+        Error::input(format!(
+            "model file {}: larger than the limit of {MAX_MODEL_FILE_BYTES} bytes (64 MiB)",
+            path.display()
+        ))
+    };
+    let f = std::fs::File::open(path).map_err(cannot)?;
+    if f.metadata().map_err(cannot)?.len() > MAX_MODEL_FILE_BYTES {
+        return Err(too_big());
+    }
+    let mut bytes = Vec::new();
+    f.take(MAX_MODEL_FILE_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(cannot)?;
+    if bytes.len() as u64 > MAX_MODEL_FILE_BYTES {
+        return Err(too_big());
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        Error::input(format!(
+            "model file {}: not UTF-8 text (invalid byte at offset {})",
+            path.display(),
+            e.utf8_error().valid_up_to()
+        ))
+    })
 }

@@ -40,6 +40,26 @@ pub const MAX_RING_POINTS: usize = 1_000_000;
 pub const MAX_CIRCLE_SEGMENTS: usize = 20_000;
 /// Absolute zero, °C.
 pub const ABSOLUTE_ZERO_C: f64 = -273.15;
+/// Largest temperature magnitude accepted (fixed temperatures and ambients), °C.
+pub const MAX_ABS_TEMPERATURE_C: f64 = 1.0e4;
+/// Smallest conductivity accepted, W/(m·K) (still-air gaps are about 0.025; aerogels 0.01).
+pub const MIN_CONDUCTIVITY: f64 = 1.0e-6;
+/// Largest conductivity accepted, W/(m·K) (copper is about 400; the margin allows contrasts).
+pub const MAX_CONDUCTIVITY: f64 = 1.0e7;
+/// Largest film coefficient accepted, W/(m²·K); above it use a fixed temperature.
+pub const MAX_FILM_COEFFICIENT: f64 = 1.0e10;
+/// Largest imposed flux magnitude accepted, W/m².
+pub const MAX_ABS_FLUX: f64 = 1.0e9;
+/// Largest heat source magnitude accepted, W/m³.
+pub const MAX_ABS_HEAT_SOURCE: f64 = 1.0e10;
+/// Largest model file accepted, bytes (64 MiB), checked before the file is read.
+pub const MAX_MODEL_FILE_BYTES: u64 = 64 * 1024 * 1024;
+/// Longest name (material, boundary, probe, line), characters.
+pub const MAX_NAME_CHARS: usize = 64;
+/// Longest title, characters.
+pub const MAX_TITLE_CHARS: usize = 200;
+/// Most samples of all lines together.
+pub const MAX_LINE_SAMPLES: usize = 1_000_000;
 
 /// Boundary condition of a named boundary.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]

@@ -82,7 +82,8 @@ impl RingContext<'_> {
         match self.boundary_ids.get(name) {
             Some(&id) => Ok(Some(id)),
             None => Err(Error::input(format!(
-                "{what} names boundary \"{name}\", which is not defined under [boundaries] (defined: {}){}",
+                "{what} names boundary \"{}\", which is not defined under [boundaries] (defined: {}){}",
+                crate::error::printable(name),
                 known_list(self.boundaries.keys()),
                 did_you_mean(name, self.boundaries.keys())
             ))),

@@ -153,3 +153,104 @@ ambient = -5.0
     assert_eq!(v["mesh"]["max_area"], s.mesh.max_area);
     assert_eq!(v["title"], "untitled");
 }
+
+const SQUARE: &str = r#"
+[materials.a]
+conductivity = 2.0
+[outline]
+material = "a"
+points = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]]
+boundary = "b"
+[boundaries.b]
+kind = "fixed"
+temperature = 0.0
+"#;
+
+#[test]
+fn values_at_each_stated_limit_pass_and_beyond_fail() {
+    let cases = [
+        (
+            "conductivity = 2.0",
+            "conductivity",
+            MIN_CONDUCTIVITY,
+            MAX_CONDUCTIVITY,
+        ),
+        (
+            "temperature = 0.0",
+            "temperature",
+            ABSOLUTE_ZERO_C,
+            MAX_ABS_TEMPERATURE_C,
+        ),
+    ];
+    for (from, key, lo, hi) in cases {
+        for (v, ok) in [
+            (lo, true),
+            (hi, true),
+            (hi * 1.001, false),
+            (lo - lo.abs() * 0.001, false),
+        ] {
+            let text = SQUARE.replace(from, &format!("{key} = {v:e}"));
+            let r = validate(&parse(&text).unwrap());
+            assert_eq!(r.is_ok(), ok, "{key} = {v:e}: {r:?}");
+            if let Err(e) = r {
+                assert_eq!(e.exit_code(), 2);
+                assert!(e.message().contains(key), "{}", e.message());
+            }
+        }
+    }
+    let bounded = [
+        (
+            "kind = \"fixed\"\ntemperature = 0.0",
+            "kind = \"flux\"\nflux",
+            MAX_ABS_FLUX,
+        ),
+        (
+            "conductivity = 2.0",
+            "conductivity = 2.0\nheat_source",
+            MAX_ABS_HEAT_SOURCE,
+        ),
+        (
+            "kind = \"fixed\"\ntemperature = 0.0",
+            "kind = \"convection\"\nambient = 0.0\nh",
+            MAX_FILM_COEFFICIENT,
+        ),
+    ];
+    for (from, to, max) in bounded {
+        for (v, ok) in [(max, true), (max * 1.001, false)] {
+            let text = SQUARE.replace(from, &format!("{to} = {v:e}"));
+            let r = validate(&parse(&text).unwrap());
+            assert_eq!(r.is_ok(), ok, "{to} = {v:e}: {r:?}");
+        }
+    }
+}
+
+#[test]
+fn names_up_to_the_limit_pass_and_longer_fail() {
+    let at = SQUARE.replace("\"b\"", &format!("\"{}\"", "b".repeat(MAX_NAME_CHARS)));
+    let at = at.replace(
+        "boundaries.b]",
+        &format!("boundaries.{}]", "b".repeat(MAX_NAME_CHARS)),
+    );
+    assert!(validate(&parse(&at).unwrap()).is_ok());
+    let over = at.replace(&"b".repeat(MAX_NAME_CHARS), &"b".repeat(MAX_NAME_CHARS + 1));
+    let e = validate(&parse(&over).unwrap()).unwrap_err();
+    assert!(e.message().contains("limit of 64"), "{}", e.message());
+}
+
+#[test]
+fn title_up_to_the_limit_passes() {
+    let t = format!("title = \"{}\"\n{SQUARE}", "t".repeat(MAX_TITLE_CHARS));
+    assert_eq!(
+        validate(&parse(&t).unwrap()).unwrap().title.len(),
+        MAX_TITLE_CHARS
+    );
+}
+
+#[cfg(target_os = "linux")]
+#[test]
+fn unbounded_stream_is_cut_at_the_file_limit() {
+    // /dev/zero has no size on disk: the bounded read stops one byte past the limit.
+    let e = load(std::path::Path::new("/dev/zero")).unwrap_err();
+    assert_eq!(e.exit_code(), 2);
+    assert!(e.message().contains("64 MiB"), "{}", e.message());
+}

@@ -2,20 +2,24 @@
 //! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines), or an
 //! error naming the offending item.
 
+use super::ring::ring_circle_segments;
 use super::ring::{RingContext, build_ring, raw_area};
 use super::suggest::{did_you_mean, known_list, suggest};
 use super::{
-    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, DEFAULT_MIN_ANGLE, Line, MAX_COORD,
-    MAX_MIN_ANGLE, MAX_RING_POINTS, Material, MeshSettings, ModelFile, Probe, Region, Ring,
+    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, DEFAULT_MIN_ANGLE, Line, MAX_ABS_FLUX,
+    MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS, MAX_CONDUCTIVITY, MAX_COORD,
+    MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE, MAX_NAME_CHARS, MAX_RING_POINTS,
+    MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings, ModelFile, Probe, Region, Ring,
     RingFile, Section, Validated,
 };
-use crate::error::{Error, Result};
-use std::collections::{BTreeMap, BTreeSet};
+use crate::error::{Error, Result, printable};
+use std::collections::BTreeMap;
 
 /// Turn a parsed model file into a validated [`Section`]. Geometric checks that need more than
 /// one ring (holes inside the outline, crossings, probes inside) belong to the geometry stage.
 pub fn validate(file: &ModelFile) -> Result<Section> {
     let mut warnings = Vec::new();
+    let title = validate_title(file)?;
     let (materials, material_ids) = validate_materials(file)?;
     let (boundaries, boundary_ids) = validate_boundaries(file)?;
     let outline_file = file.outline.as_ref().ok_or_else(|| {
@@ -24,6 +28,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let outline_material = material_of(file, &material_ids, "outline", &outline_file.material)?;
     check_holes_hold_no_material(file)?;
     let mesh = mesh_settings(file, outline_file)?;
+    check_written_points(file, mesh.max_area)?;
+    let probes = validate_probes(file)?;
+    let lines = validate_lines(file)?;
     let ctx = RingContext {
         boundaries: &file.boundaries,
         boundary_ids: &boundary_ids,
@@ -34,10 +41,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let outline = build_ring("outline", outline_file, &ctx, &mut warnings)?;
     let holes = build_holes(file, &ctx, &mut warnings)?;
     let regions = build_regions(file, &material_ids, &ctx, &mut warnings)?;
-    check_total_points(&outline, &holes, &regions)?;
     naming_warnings(&outline, &holes, &boundaries, &mut warnings);
     Ok(Section {
-        title: file.title.clone().unwrap_or_else(|| "untitled".to_string()),
+        title,
         mesh,
         materials,
         outline_material,
@@ -45,19 +51,89 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         regions,
         holes,
         boundaries,
-        probes: validate_probes(file)?,
-        lines: validate_lines(file)?,
+        probes,
+        lines,
         warnings,
         validated: Validated,
     })
 }
 
-/// True for a name of letters, digits, '_' and '-'.
-fn valid_name(name: &str) -> bool {
-    !name.is_empty()
-        && name
-            .chars()
-            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+/// A name of 1 to [`MAX_NAME_CHARS`] letters, digits, '_' and '-' (so no control characters,
+/// and safe as a file name); `label` names the item in the error.
+fn check_name(label: &str, name: &str, what: &str) -> Result<()> {
+    if name.is_empty() {
+        return Err(Error::input(format!(
+            "{label}: a {what} name may not be empty"
+        )));
+    }
+    let n = name.chars().count();
+    if n > MAX_NAME_CHARS {
+        return Err(Error::input(format!(
+            "{label}: the {what} name has {n} characters, above the limit of {MAX_NAME_CHARS}"
+        )));
+    }
+    if !name
+        .chars()
+        .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+    {
+        return Err(Error::input(format!(
+            "{label}: a {what} name may hold only letters, digits, '_' and '-'"
+        )));
+    }
+    Ok(())
+}
+
+/// Names of one table must differ ignoring case (line names become file names, and a
+/// case-insensitive file system would make `mid` and `MID` one file). `seen` maps the
+/// lower-case name to the label of its first use.
+fn check_case_unique(
+    label: &str,
+    name: &str,
+    what: &str,
+    seen: &mut BTreeMap<String, String>,
+) -> Result<()> {
+    if let Some(first) = seen.get(&name.to_ascii_lowercase()) {
+        return Err(Error::input(format!(
+            "{label}: duplicate {what} name: equals {first} ignoring case (names of one kind must differ in more than case)"
+        )));
+    }
+    seen.insert(name.to_ascii_lowercase(), label.to_string());
+    Ok(())
+}
+
+/// The title (default "untitled"): at most [`MAX_TITLE_CHARS`] characters, no control
+/// characters.
+fn validate_title(file: &ModelFile) -> Result<String> {
+    let Some(t) = &file.title else {
+        return Ok("untitled".to_string());
+    };
+    let n = t.chars().count();
+    if n > MAX_TITLE_CHARS {
+        return Err(Error::input(format!(
+            "title: {n} characters, above the limit of {MAX_TITLE_CHARS}"
+        )));
+    }
+    if t.chars().any(char::is_control) {
+        return Err(Error::input(format!(
+            "title \"{}\": control characters (newline, tab, ESC, ...) are not allowed",
+            printable(t)
+        )));
+    }
+    Ok(t.clone())
+}
+
+/// A finite number with |v| at most `max`; `what` names the key and its unit.
+fn check_bounded(v: f64, max: f64, what: &str, unit: &str) -> Result<()> {
+    if !v.is_finite() {
+        return Err(Error::input(format!("{what} = {v} is not a finite number")));
+    }
+    if v.abs() > max {
+        return Err(Error::input(format!(
+            "{what} = {v:e} {unit} is outside the accepted range |{}| <= {max:e} {unit}",
+            what.rsplit(' ').next().unwrap_or(what)
+        )));
+    }
+    Ok(())
 }
 
 /// A point with finite coordinates inside ±[`MAX_COORD`].
@@ -77,11 +153,9 @@ pub(super) fn finite_point(p: [f64; 2], what: &str) -> Result<()> {
     Ok(())
 }
 
-/// A finite temperature not below absolute zero.
+/// A finite temperature not below absolute zero and at most [`MAX_ABS_TEMPERATURE_C`].
 fn check_temperature(v: f64, what: &str) -> Result<()> {
-    if !v.is_finite() {
-        return Err(Error::input(format!("{what} = {v} is not a finite number")));
-    }
+    check_bounded(v, MAX_ABS_TEMPERATURE_C, what, "°C")?;
     if v < ABSOLUTE_ZERO_C {
         return Err(Error::input(format!(
             "{what} = {v} °C is below absolute zero ({ABSOLUTE_ZERO_C} °C)"
@@ -99,24 +173,24 @@ fn validate_materials(file: &ModelFile) -> Result<(Vec<Material>, BTreeMap<Strin
     }
     let mut materials = Vec::new();
     let mut ids = BTreeMap::new();
+    let mut seen = BTreeMap::new();
     for (i, (name, m)) in file.materials.iter().enumerate() {
-        if !valid_name(name) {
+        let label = format!("materials.{}", printable(name));
+        check_name(&label, name, "material")?;
+        check_case_unique(&label, name, "material", &mut seen)?;
+        let k = m.conductivity;
+        if !k.is_finite() || !(MIN_CONDUCTIVITY..=MAX_CONDUCTIVITY).contains(&k) {
             return Err(Error::input(format!(
-                "materials.{name}: a material name may hold only letters, digits, '_' and '-'"
-            )));
-        }
-        if !m.conductivity.is_finite() || m.conductivity <= 0.0 {
-            return Err(Error::input(format!(
-                "materials.{name}: conductivity = {} W/(m·K) must be a positive finite number",
-                m.conductivity
+                "materials.{name}: conductivity = {k:e} W/(m·K) must be a finite number in [{MIN_CONDUCTIVITY:e}, {MAX_CONDUCTIVITY:e}]"
             )));
         }
         let q = m.heat_source.unwrap_or(0.0);
-        if !q.is_finite() {
-            return Err(Error::input(format!(
-                "materials.{name}: heat_source = {q} W/m³ is not a finite number"
-            )));
-        }
+        check_bounded(
+            q,
+            MAX_ABS_HEAT_SOURCE,
+            &format!("materials.{name}: heat_source"),
+            "W/m³",
+        )?;
         if let Some(a) = m.max_area
             && (!a.is_finite() || a <= 0.0)
         {
@@ -148,7 +222,8 @@ fn material_of(
         .ok_or_else(|| Error::input(format!("{label}: missing `material`")))?;
     ids.get(name).copied().ok_or_else(|| {
         Error::input(format!(
-            "{label}: material \"{name}\" is not defined under [materials] (defined: {}){}",
+            "{label}: material \"{}\" is not defined under [materials] (defined: {}){}",
+            printable(name),
             known_list(file.materials.keys()),
             did_you_mean(name, file.materials.keys())
         ))
@@ -159,7 +234,11 @@ fn material_of(
 fn validate_boundaries(file: &ModelFile) -> Result<(Vec<Boundary>, BTreeMap<String, usize>)> {
     let mut boundaries = Vec::new();
     let mut ids = BTreeMap::new();
+    let mut seen = BTreeMap::new();
     for (i, (name, b)) in file.boundaries.iter().enumerate() {
+        let label = format!("boundaries.{}", printable(name));
+        check_name(&label, name, "boundary")?;
+        check_case_unique(&label, name, "boundary", &mut seen)?;
         let kind = validate_boundary(name, b)?;
         if let Some(h) = b.size
             && (!h.is_finite() || h <= 0.0)
@@ -207,13 +286,8 @@ fn require(name: &str, key: &str, v: Option<f64>, kind: &str) -> Result<f64> {
     v.ok_or_else(|| Error::input(format!("boundaries.{name}: kind \"{kind}\" needs `{key}`")))
 }
 
-/// The condition of one written boundary.
+/// The condition of one written boundary (its name already checked).
 fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
-    if !valid_name(name) {
-        return Err(Error::input(format!(
-            "boundaries.{name}: a boundary name may hold only letters, digits, '_' and '-'"
-        )));
-    }
     let kind = match b.kind.as_str() {
         "fixed" => {
             check_kind_keys(name, b, &["temperature"])?;
@@ -228,20 +302,16 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
         "flux" => {
             check_kind_keys(name, b, &["flux"])?;
             let q = require(name, "flux", b.flux, "flux")?;
-            if !q.is_finite() {
-                return Err(Error::input(format!(
-                    "boundaries.{name}: flux = {q} is not a finite number"
-                )));
-            }
+            check_bounded(q, MAX_ABS_FLUX, &format!("boundaries.{name}: flux"), "W/m²")?;
             BoundaryKind::Flux { flux: q }
         }
         "convection" => {
             check_kind_keys(name, b, &["h", "ambient"])?;
             let h = require(name, "h", b.h, "convection")?;
             let a = require(name, "ambient", b.ambient, "convection")?;
-            if !h.is_finite() || h <= 0.0 {
+            if !h.is_finite() || h <= 0.0 || h > MAX_FILM_COEFFICIENT {
                 return Err(Error::input(format!(
-                    "boundaries.{name}: h = {h} W/(m²·K) must be a positive finite number"
+                    "boundaries.{name}: h = {h} W/(m²·K) must be a positive finite number, at most {MAX_FILM_COEFFICIENT:e} (for a larger one, fix the temperature)"
                 )));
             }
             check_temperature(a, &format!("boundaries.{name}: ambient"))?;
@@ -255,7 +325,8 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             .map(|s| format!("; did you mean \"{s}\"?"))
             .unwrap_or_default();
             return Err(Error::input(format!(
-                "boundaries.{name}: unknown kind \"{other}\" (one of: fixed, insulated, flux, convection){hint}"
+                "boundaries.{name}: unknown kind \"{}\" (one of: fixed, insulated, flux, convection){hint}",
+                printable(other)
             )));
         }
     };
@@ -365,13 +436,21 @@ fn build_regions(
     Ok(regions)
 }
 
-/// All rings together hold at most [`MAX_RING_POINTS`] points.
-fn check_total_points(outline: &Ring, holes: &[Ring], regions: &[Region]) -> Result<()> {
-    let total: usize = std::iter::once(outline)
-        .chain(holes.iter())
-        .chain(regions.iter().map(|r| &r.ring))
-        .map(|r| r.len())
-        .sum();
+/// All rings together hold at most [`MAX_RING_POINTS`] points, counted as written (a circle
+/// by its segment count) before any ring is built.
+fn check_written_points(file: &ModelFile, max_area: f64) -> Result<()> {
+    let total = file
+        .outline
+        .iter()
+        .chain(&file.holes)
+        .chain(&file.regions)
+        .map(|r| match &r.points {
+            Some(p) => p.len(),
+            None => ring_circle_segments(r, &file.boundaries, max_area)
+                .unwrap_or(0)
+                .min(MAX_CIRCLE_SEGMENTS + 1),
+        })
+        .fold(0usize, usize::saturating_add);
     if total > MAX_RING_POINTS {
         return Err(Error::input(format!(
             "the rings hold {total} points in total, above the limit of {MAX_RING_POINTS}; give circles fewer `segments`, or raise max_area or the boundaries' size"
@@ -425,30 +504,23 @@ fn naming_warnings(
     }
 }
 
-/// A probe or line name: valid characters and not used twice.
+/// A probe or line name: valid characters, not too long, and not used twice (case ignored).
 fn check_unique_name(
     label: &str,
     name: &str,
     what: &str,
-    seen: &mut BTreeSet<String>,
+    seen: &mut BTreeMap<String, String>,
 ) -> Result<()> {
-    if !valid_name(name) {
-        return Err(Error::input(format!(
-            "{label}: a {what} name may hold only letters, digits, '_' and '-'"
-        )));
-    }
-    if !seen.insert(name.to_string()) {
-        return Err(Error::input(format!("{label}: duplicate {what} name")));
-    }
-    Ok(())
+    check_name(label, name, what)?;
+    check_case_unique(label, name, what, seen)
 }
 
 /// Probes in file order: unique names, finite positions.
 fn validate_probes(file: &ModelFile) -> Result<Vec<Probe>> {
-    let mut seen = BTreeSet::new();
+    let mut seen = BTreeMap::new();
     let mut probes = Vec::new();
     for (i, p) in file.probes.iter().enumerate() {
-        let label = format!("probes[{i}] \"{}\"", p.name);
+        let label = format!("probes[{i}] \"{}\"", printable(&p.name));
         check_unique_name(&label, &p.name, "probe", &mut seen)?;
         finite_point(p.at, &format!("{label}: at"))?;
         probes.push(Probe {
@@ -459,12 +531,14 @@ fn validate_probes(file: &ModelFile) -> Result<Vec<Probe>> {
     Ok(probes)
 }
 
-/// Lines in file order: unique names, finite distinct end points, 2..=10⁶ samples.
+/// Lines in file order: unique names, finite distinct end points, at least 2 samples each and
+/// at most [`MAX_LINE_SAMPLES`] over all lines together.
 fn validate_lines(file: &ModelFile) -> Result<Vec<Line>> {
-    let mut seen = BTreeSet::new();
+    let mut seen = BTreeMap::new();
     let mut lines = Vec::new();
+    let mut total = 0usize;
     for (i, l) in file.lines.iter().enumerate() {
-        let label = format!("lines[{i}] \"{}\"", l.name);
+        let label = format!("lines[{i}] \"{}\"", printable(&l.name));
         check_unique_name(&label, &l.name, "line", &mut seen)?;
         finite_point(l.from, &format!("{label}: from"))?;
         finite_point(l.to, &format!("{label}: to"))?;
@@ -474,9 +548,10 @@ fn validate_lines(file: &ModelFile) -> Result<Vec<Line>> {
                 l.samples
             )));
         }
-        if l.samples > 1_000_000 {
+        total = total.saturating_add(l.samples);
+        if total > MAX_LINE_SAMPLES {
             return Err(Error::input(format!(
-                "{label}: samples = {} exceeds the limit of 1000000",
+                "{label}: samples = {}: the lines would have {total} samples together, above the limit of {MAX_LINE_SAMPLES} over all lines",
                 l.samples
             )));
         }
