@@ -127,7 +127,7 @@ fn within(value: f64, tolerance: f64) -> bool {
 /// ([`post::flows::balance_scale`]). The imbalance is a sum of nodal residuals and edge
 /// integrals, so floating point closes it only to about ε·S with
 /// S = Σ_i (Σ_j |K_ij|·|T_j| + |f_i|) + Σ|cell source| (W/m): the tolerance is
-/// [`BALANCE_ROUNDOFF_FACTOR`]·ε·S / D. For ordinary models S/D is 10²…10⁵ (tolerance
+/// [`BALANCE_ROUNDOFF_FACTOR`]·ε·S / D. For ordinary models S/D is 10²…10⁶ (tolerance
 /// 10⁻¹²…10⁻⁸); a large film coefficient or conductivity contrast raises it as far as
 /// floating point forces.
 fn energy_balance(system: &System, r: &Results, rows: &RowTerms) -> Check {
