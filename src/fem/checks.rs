@@ -64,8 +64,9 @@ pub fn check_mesh(section: &Section, mesh: &Mesh) -> Result<()> {
 
 /// Refuses a model in which some connected part of the mesh touches no fixed or convective
 /// edge: its temperature level would be undetermined and the matrix singular. The mesh must
-/// have passed [`check_mesh`].
-pub(crate) fn check_determined(section: &Section, mesh: &Mesh) -> Result<()> {
+/// have passed [`check_mesh`]. Any mesh of the section gives the same answer (refinement keeps
+/// the connected parts and the boundaries present), so `check` runs it on its coarse mesh.
+pub fn check_determined(section: &Section, mesh: &Mesh) -> Result<()> {
     let anchored_edge = |e: &BoundaryEdge| {
         e.boundary.is_some_and(|id| {
             matches!(

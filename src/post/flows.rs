@@ -141,26 +141,65 @@ pub struct EnergyBalance {
     pub heat_source: f64,
     /// Σ boundary heat flows + heat source, W/m (zero to round-off).
     pub imbalance: f64,
-    /// |imbalance| / (Σ|boundary flows| + |source|), 0 when nothing flows.
+    /// |imbalance| / [`balance_scale`], never a division by zero; NaN when a sum overflowed.
     pub imbalance_relative: f64,
 }
 
 impl EnergyBalance {
-    /// The balance of the given boundary flows and per-triangle generated heat (W/m).
-    pub fn of(boundaries: &[BoundaryResult], cell_source: &[f64]) -> Self {
+    /// The balance of the given boundary flows and per-triangle generated heat (W/m),
+    /// relative to [`balance_scale`] with the given floor (W/m).
+    pub fn of(boundaries: &[BoundaryResult], cell_source: &[f64], floor: f64) -> Self {
         let heat_source: f64 = cell_source.iter().sum();
         let flow_sum: f64 = boundaries.iter().map(|b| b.heat_flow).sum();
-        let flow_abs: f64 = boundaries.iter().map(|b| b.heat_flow.abs()).sum();
         let imbalance = flow_sum + heat_source;
-        let denominator = flow_abs + heat_source.abs();
+        let scale = balance_scale(boundaries, heat_source, floor);
         EnergyBalance {
             heat_source,
             imbalance,
-            imbalance_relative: if denominator > 0.0 {
-                imbalance.abs() / denominator
-            } else {
-                0.0
-            },
+            imbalance_relative: relative_to(imbalance, scale),
         }
     }
+}
+
+/// `|value| / scale`, NaN unless both are finite and the scale positive (an overflowed sum
+/// must never read as a closed balance).
+pub fn relative_to(value: f64, scale: f64) -> f64 {
+    if value.is_finite() && scale.is_finite() && scale > 0.0 {
+        value.abs() / scale
+    } else {
+        f64::NAN
+    }
+}
+
+/// The heat flowing through a solved model, W/m, against which its imbalance is measured:
+/// Σ|boundary heat flows| + |heat source|, but at least `floor` (see [`balance_floor`]), so
+/// that a model through which nothing flows (every edge at one temperature) is never measured
+/// against round-off.
+pub fn balance_scale(boundaries: &[BoundaryResult], heat_source: f64, floor: f64) -> f64 {
+    let flow_abs: f64 = boundaries.iter().map(|b| b.heat_flow.abs()).sum();
+    (flow_abs + heat_source.abs()).max(floor)
+}
+
+/// The floor of [`balance_scale`], W/m: `k_max · max(T_max − T_min, 1 K)`, with `k_max` the
+/// largest principal conductivity of the system's materials and `T_max − T_min` the range of
+/// the solved nodal temperatures — the heat that flows through a square of the most conductive
+/// material across the field's temperature range (or 1 K). Positive for every valid model.
+pub fn balance_floor(system: &System, temperature: &[f64]) -> f64 {
+    let k_max = system
+        .conductivity
+        .iter()
+        .map(|c| {
+            let d = c.tensor;
+            let mean = 0.5 * (d[(0, 0)] + d[(1, 1)]);
+            let half = 0.5 * (d[(0, 0)] - d[(1, 1)]);
+            mean + half.hypot(d[(0, 1)])
+        })
+        .fold(0.0, f64::max);
+    let (lo, hi) = temperature
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &t| {
+            (lo.min(t), hi.max(t))
+        });
+    let range = if hi >= lo { hi - lo } else { 0.0 };
+    k_max * range.max(1.0)
 }

@@ -172,7 +172,7 @@ pub struct Results {
     pub heat_source: f64,
     /// Σ boundary heat flows + heat source, W/m (zero to round-off).
     pub energy_imbalance: f64,
-    /// |imbalance| / (Σ|boundary flows| + |source|).
+    /// |imbalance| / max(Σ|boundary flows| + |source|, floor) ([`flows::balance_scale`]).
     pub energy_imbalance_relative: f64,
     /// Lowest nodal temperature.
     pub t_min: Extreme,
@@ -223,7 +223,8 @@ pub fn postprocess(
     let temperature = &solution.temperature;
     let field = field::gradients_and_fluxes(mesh, &system.conductivity, temperature);
     let boundaries = flows::boundary_results(section, mesh, system, temperature)?;
-    let balance = flows::EnergyBalance::of(&boundaries, &system.cell_source);
+    let floor = flows::balance_floor(system, temperature);
+    let balance = flows::EnergyBalance::of(&boundaries, &system.cell_source, floor);
     let (t_min, t_max) = field::extremes(mesh, temperature);
     let mut warnings = Vec::new();
     let sampler = sample::Sampler::new(section, mesh, temperature, &field.nodal_flux);

@@ -14,10 +14,12 @@ use serde::Serialize;
 use std::path::Path;
 use std::time::Instant;
 
-/// Relative energy imbalance above which the self-check fails.
-pub const BALANCE_TOLERANCE: f64 = 1e-9;
-/// Relative solver residual above which the self-check fails.
-pub const RESIDUAL_TOLERANCE: f64 = 1e-9;
+/// The energy-balance self-check fails above this many ε times the round-off scale of the
+/// balance (Σ of the magnitudes of the terms it sums) relative to the heat flowing.
+pub const BALANCE_ROUNDOFF_FACTOR: f64 = 64.0;
+/// The solver-residual self-check fails above a backward error of this many ε times √(free
+/// nodes).
+pub const RESIDUAL_ROUNDOFF_FACTOR: f64 = 64.0;
 /// Excursion beyond the range of fixed and ambient temperatures, relative to that range, above
 /// which the maximum-principle check warns (the consistent convection matrix may undershoot
 /// slightly on coarse meshes).
@@ -125,6 +127,23 @@ pub fn mesh(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
     mesh::build(&prepared.section, &prepared.pslg, opts)
 }
 
+/// Runs every model-level validation that [`solve()`] runs, on the coarse (unrefined) mesh,
+/// and returns that mesh: the mesh limits, the mesh against the section and the determinacy
+/// check (some fixed or convective edge on every connected part). A model refused here is
+/// refused by `solve` with the same error.
+pub fn check_model(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
+    let coarse = mesh(
+        prepared,
+        &MeshOptions {
+            refine: false,
+            ..*opts
+        },
+    )?;
+    fem::check_mesh(&prepared.section, &coarse)?;
+    fem::checks::check_determined(&prepared.section, &coarse)?;
+    Ok(coarse)
+}
+
 /// Mesh, assemble, solve and post-process a prepared model, and run the self-checks.
 pub fn solve(prepared: Prepared, opts: &MeshOptions) -> Result<Solved> {
     solve_with(prepared, opts, None)
@@ -159,7 +178,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             warnings.push(w.clone());
         }
     }
-    let checks = self_checks(&prepared.section, &mesh, &solution, &results);
+    let checks = self_checks(&prepared.section, &mesh, &system, &results)?;
     for c in &checks {
         if c.status() == CheckStatus::Warning {
             warnings.push(format!("self-check {}: {}", c.name, c.detail));
