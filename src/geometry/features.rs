@@ -200,7 +200,10 @@ pub(super) fn thin_features(vertices: &[Point], pieces: &[Piece], limit: f64) ->
     found.sort_by(|x, y| x.thickness.total_cmp(&y.thickness));
     let mut out: Vec<ThinFeature> = Vec::new();
     for f in found {
-        if !out.iter().any(|o| geom::distance(o.at, f.at) <= 10.0 * limit) {
+        if !out
+            .iter()
+            .any(|o| geom::distance(o.at, f.at) <= 10.0 * limit)
+        {
             out.push(f);
         }
     }
@@ -212,7 +215,13 @@ pub fn thin_feature_warning(features: &[ThinFeature], limit: f64) -> String {
     let places: Vec<String> = features
         .iter()
         .take(THIN_REPORTED)
-        .map(|f| format!("{:.3e} m thick at {}", f.thickness, geom::format_point(f.at)))
+        .map(|f| {
+            format!(
+                "{:.3e} m thick at {}",
+                f.thickness,
+                geom::format_point(f.at)
+            )
+        })
         .collect();
     let more = if features.len() > THIN_REPORTED {
         format!(" and {} more", features.len() - THIN_REPORTED)

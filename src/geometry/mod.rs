@@ -138,11 +138,7 @@ pub fn build(section: &Section) -> Result<Pslg> {
     check_probes(section, &classifier, tol)?;
     check_lines(section, &classifier, tol)?;
     let jump_corners = features::jump_corners(section, &classifier, &zone_material);
-    warnings.extend(
-        jump_corners
-            .iter()
-            .map(|c| jump_corner_warning(section, c)),
-    );
+    warnings.extend(jump_corners.iter().map(|c| jump_corner_warning(section, c)));
     let thin_limit = THIN_FEATURE_FACTOR * section.diameter();
     let thin_features = features::thin_features(&vertices, &assembled.pieces, thin_limit);
     if !thin_features.is_empty() {
