@@ -63,7 +63,7 @@ fn fixed_temperature(section: &Section, b: Option<usize>) -> Option<(usize, f64)
     }
 }
 
-/// Angle at `c` from direction `u` counter-clockwise to direction `v`, in (0, 2π].
+/// Angle from direction `u` counter-clockwise to direction `v`, in (0, 2π].
 fn ccw_angle(u: Point, v: Point) -> f64 {
     let a = (u[0] * v[1] - u[1] * v[0]).atan2(u[0] * v[0] + u[1] * v[1]);
     if a <= 0.0 { a + 2.0 * PI } else { a }
