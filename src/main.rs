@@ -97,6 +97,10 @@ struct SolveArgs {
     /// this value.
     #[arg(long, allow_negative_numbers = true)]
     target_error: Option<f64>,
+    /// With --target-error: fail (exit 1, nothing written) when refinement stops above the
+    /// target instead of writing the best mesh's results with a warning.
+    #[arg(long, requires = "target_error")]
+    strict: bool,
 }
 
 #[derive(Args)]
@@ -237,6 +241,15 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     if let Some(e) = run::failed_checks_error(&solved) {
         con.caution();
         return Err(e);
+    }
+    if let Some(t) = a
+        .target_error
+        .filter(|&t| a.strict && !adaptive::target_reached(&solved, t))
+    {
+        con.caution();
+        return Err(Error::run(format!(
+            "--strict: adaptive refinement stopped above the target error {t}, no results written (see the warning)"
+        )));
     }
     let written = out.commit(&output::solve_files(&solved)?)?;
     con.result(&wrote(written.len(), &a.out));

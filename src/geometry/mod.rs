@@ -10,9 +10,13 @@
 //! contacts and snaps the vertices, `classify` locates points against the rings.
 
 mod classify;
+mod features;
 mod segments;
 
 pub use classify::Classifier;
+pub use features::{
+    JumpCorner, THIN_FEATURE_FACTOR, ThinFeature, jump_corner_warning, thin_feature_warning,
+};
 
 use crate::error::{Error, Result};
 use crate::geom::{self, Point};
@@ -101,7 +105,13 @@ pub struct Pslg {
     pub zone_material: Vec<usize>,
     /// Snapping tolerance, m.
     pub tol: f64,
-    /// Notes for the user (regions clipped by the outline or holes).
+    /// Corners where fixed boundaries of different temperatures meet.
+    pub jump_corners: Vec<JumpCorner>,
+    /// Places where pieces sharing no vertex come closer than the resolution
+    /// ([`THIN_FEATURE_FACTOR`] × the section's diagonal), the thinnest first.
+    pub thin_features: Vec<ThinFeature>,
+    /// Notes for the user (regions clipped by the outline or holes, temperature jumps, thin
+    /// features).
     pub warnings: Vec<String>,
 }
 
@@ -123,15 +133,24 @@ pub fn build(section: &Section) -> Result<Pslg> {
         .chain(section.regions.iter().map(|r| r.material))
         .collect();
     let assembled = assemble_pieces(section, &classifier, &vertices, by_key, zone_material.len())?;
-    let warnings = clipping_warnings(&assembled.region_clipped);
+    let mut warnings = clipping_warnings(&assembled.region_clipped);
     check_regions_have_area(&assembled.zone_seen)?;
     check_probes(section, &classifier, tol)?;
     check_lines(section, &classifier, tol)?;
+    let jump_corners = features::jump_corners(section, &classifier, &zone_material);
+    warnings.extend(jump_corners.iter().map(|c| jump_corner_warning(section, c)));
+    let thin_limit = THIN_FEATURE_FACTOR * section.diameter();
+    let thin_features = features::thin_features(&vertices, &assembled.pieces, thin_limit);
+    if !thin_features.is_empty() {
+        warnings.push(thin_feature_warning(&thin_features, thin_limit));
+    }
     Ok(Pslg {
         vertices,
         pieces: assembled.pieces,
         zone_material,
         tol,
+        jump_corners,
+        thin_features,
         warnings,
     })
 }

@@ -364,20 +364,35 @@ impl<'a> Mesher<'a> {
         if result.refinement_complete {
             return Ok(());
         }
-        let note = if self.small.is_empty() {
-            String::new()
-        } else {
-            format!(
-                " ({} vertices have input angles below min_angle)",
-                self.small.len()
-            )
-        };
         Err(Error::run(format!(
-            "mesh refinement stopped after {} added vertices without meeting min_angle = {}° and max_area = {:e} m²; lower min_angle (e.g. 25), raise max_area, or remove very small input angles{note}",
+            "mesh refinement stopped after {} added vertices without meeting min_angle = {}° and max_area = {:e} m²; {}",
             cdt.num_vertices() - before,
             section.mesh.min_angle,
             max_area,
+            self.refinement_advice()
         )))
+    }
+
+    /// What to change when refinement does not complete: thin features first (they defeat any
+    /// angle limit), small input angles only where there are some.
+    fn refinement_advice(&self) -> String {
+        let mut advice = Vec::new();
+        if let Some(f) = self.pslg.thin_features.first() {
+            advice.push(format!(
+                "widen or remove the features thinner than the resolution ({} in all; the thinnest is {:.3e} m thick at {})",
+                self.pslg.thin_features.len(),
+                f.thickness,
+                geom::format_point(f.at)
+            ));
+        }
+        if !self.small.is_empty() {
+            advice.push(format!(
+                "remove very small input angles ({} vertices have input angles below 2 × min_angle)",
+                self.small.len()
+            ));
+        }
+        advice.push("lower min_angle (e.g. 25) or raise max_area".into());
+        advice.join("; ")
     }
 
     /// The smallest `size` of the sized boundaries through each triangulation vertex
