@@ -42,15 +42,7 @@ at = [4.0, 2.5]
 /// Writes the model into a fresh directory and runs `xsheat solve` on it. Returns the exit
 /// code, stderr, the directory's guard and the output path (`out` inside it).
 fn run_solve(model: &str) -> (i32, String, TempDir, std::path::PathBuf) {
-    let d = tmp();
-    let path = common::write(d.path(), "model.toml", model);
-    let out = d.path().join("out");
-    let o = xsheat([
-        OsStr::new("solve"),
-        path.as_os_str(),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ]);
+    let (o, d, out) = common::solve_text(model, &[]);
     (o.code, o.stderr, d, out)
 }
 

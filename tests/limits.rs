@@ -44,17 +44,7 @@ fn replace(from: &str, to: &str) -> String {
 /// Runs `xsheat solve MODEL --out DIR/out EXTRA…` on the model text; exit code, stderr and
 /// whether the output directory exists afterwards.
 fn solve(model: &str, extra: &[&str]) -> (i32, String, bool) {
-    let d = tmp();
-    let path = common::write(d.path(), "model.toml", model);
-    let out = d.path().join("out");
-    let mut args = vec![
-        OsStr::new("solve"),
-        path.as_os_str(),
-        OsStr::new("--out"),
-        out.as_os_str(),
-    ];
-    args.extend(extra.iter().map(OsStr::new));
-    let o = xsheat(args);
+    let (o, _dir, out) = common::solve_text(model, extra);
     (o.code, o.stderr, out.exists())
 }
 

@@ -49,6 +49,23 @@ pub fn repo_file(relative: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(relative)
 }
 
+/// Runs `xsheat solve MODEL --out OUT EXTRA…` on a model text written into a fresh temporary
+/// directory; returns the run, the directory (keep it alive while using the paths) and OUT.
+pub fn solve_text(model: &str, extra: &[&str]) -> (Run, tempfile::TempDir, PathBuf) {
+    let d = tmp();
+    let path = write(d.path(), "model.toml", model);
+    let out = d.path().join("out");
+    let mut args = vec![
+        OsStr::new("solve"),
+        path.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ];
+    args.extend(extra.iter().map(OsStr::new));
+    let run = xsheat(args);
+    (run, d, out)
+}
+
 /// Writes `text` to `dir/name` and returns the path.
 pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
     let p = dir.join(name);
