@@ -3,6 +3,8 @@
 
 mod common;
 
+use std::ffi::OsStr;
+
 use common::{Run, tmp, xsheat};
 use std::path::{Path, PathBuf};
 
@@ -63,6 +65,24 @@ fn solved_nodes(d: &Path) -> (PathBuf, Vec<(String, String, f64)>) {
     (model, rows)
 }
 
+/// Runs `xsheat compare MODEL --grid-file GRID --out OUT`, asserts success and returns stdout.
+fn compare_ok(model: &Path, grid: &Path, out: &Path) -> String {
+    let Run {
+        code,
+        stdout,
+        stderr,
+    } = xsheat([
+        OsStr::new("compare"),
+        model.as_os_str(),
+        OsStr::new("--grid-file"),
+        grid.as_os_str(),
+        OsStr::new("--out"),
+        out.as_os_str(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    stdout
+}
+
 fn diffs(path: &Path) -> Vec<[f64; 5]> {
     let text = std::fs::read_to_string(path).unwrap();
     let mut lines = text.lines();
@@ -92,19 +112,7 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
     let grid = d.join("own.csv");
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out");
-    let Run {
-        code,
-        stdout,
-        stderr,
-    } = xsheat([
-        "compare",
-        model.to_str().unwrap(),
-        "--grid-file",
-        grid.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stderr}");
+    let stdout = compare_ok(&model, &grid, &out);
     assert!(stdout.contains("max |diff| ="), "{stdout}");
     assert!(stdout.contains("mean diff"), "{stdout}");
     let rows = diffs(&out.join("compare.csv"));
@@ -120,19 +128,7 @@ fn own_nodes_give_zero_difference_and_a_shift_gives_a_constant_offset() {
     }
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out_shift");
-    let Run {
-        code,
-        stdout,
-        stderr,
-    } = xsheat([
-        "compare",
-        model.to_str().unwrap(),
-        "--grid-file",
-        grid.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stderr}");
+    let stdout = compare_ok(&model, &grid, &out);
     for r in diffs(&out.join("compare.csv")) {
         assert!((r[4] - 3.5).abs() <= 1e-12, "{r:?}");
     }
@@ -155,19 +151,7 @@ fn points_outside_are_listed_and_skipped() {
     let grid = d.join("pts.csv");
     std::fs::write(&grid, &text).unwrap();
     let out = d.join("out");
-    let Run {
-        code,
-        stdout,
-        stderr,
-    } = xsheat([
-        "compare",
-        model.to_str().unwrap(),
-        "--grid-file",
-        grid.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stderr}");
+    let stdout = compare_ok(&model, &grid, &out);
     assert!(stdout.contains("10 points read, 2 inside"), "{stdout}");
     assert!(
         stdout.contains("8 points outside the section skipped"),
@@ -188,19 +172,7 @@ fn compare_reads_the_tools_own_nodes_csv() {
     let d = scratch.path();
     let (model, nodes) = solved_nodes(d);
     let out = d.join("out");
-    let Run {
-        code,
-        stdout,
-        stderr,
-    } = xsheat([
-        "compare",
-        model.to_str().unwrap(),
-        "--grid-file",
-        d.join("solve").join("nodes.csv").to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stderr}");
+    let stdout = compare_ok(&model, &d.join("solve").join("nodes.csv"), &out);
     assert!(
         stdout.contains(&format!("{n} points read, {n} inside", n = nodes.len())),
         "{stdout}"
