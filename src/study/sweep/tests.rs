@@ -23,7 +23,14 @@ fn grid_order_has_the_last_parameter_fastest_and_list_pairs_values() {
     let all: Vec<Vec<f64>> = (0..6).map(|i| p.values(i)).collect();
     assert_eq!(
         all,
-        [[1., 20.], [1., 25.], [1., 30.], [2., 20.], [2., 25.], [2., 30.]]
+        [
+            [1., 20.],
+            [1., 25.],
+            [1., 30.],
+            [2., 20.],
+            [2., 25.],
+            [2., 30.]
+        ]
     );
     let text = p.variant_text(5).unwrap();
     assert!(text.contains("min_angle = 30\n") && text.contains("conductivity = 2.0\n"));
