@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use xsheat::mesh::MeshOptions;
 use xsheat::run::{self, CheckStatus, Severity};
-use xsheat::study::{adaptive, converge, crosscheck, verify};
+use xsheat::study::{adaptive, converge, crosscheck, sweep, verify};
 use xsheat::{Error, output, report};
 
 #[derive(Parser)]
@@ -63,6 +63,9 @@ enum Command {
     Gridcheck(GridcheckArgs),
     /// Cross-check: compare your own grid results (CSV x,y,temperature or nodes.csv) with the element field.
     Compare(CompareArgs),
+    /// Parameter sweep: solve every variant of a plan (model keys and their values) and write
+    /// sweep.csv and each variant's files; or merge shard sets of one plan (--collect).
+    Sweep(SweepArgs),
 }
 
 #[derive(Args)]
@@ -158,6 +161,25 @@ struct CompareArgs {
     /// Output directory (compare.csv).
     #[arg(long)]
     out: PathBuf,
+    #[command(flatten)]
+    limit: Limit,
+}
+
+#[derive(Args)]
+struct SweepArgs {
+    /// Plan file (TOML): `model`, `mode` ("grid" or "list") and [[parameters]] with `key`
+    /// and `values`.
+    #[arg(required_unless_present = "collect")]
+    plan: Option<PathBuf>,
+    /// Output directory: new, empty or an earlier xsheat result set; replaced as a whole.
+    #[arg(long)]
+    out: PathBuf,
+    /// Run only the variants with index ≡ I−1 (mod N), 1 ≤ I ≤ N (one task of a batch job).
+    #[arg(long, conflicts_with = "collect")]
+    shard: Option<String>,
+    /// Merge the --out sets of the shards of one plan into the set of the whole plan.
+    #[arg(long, num_args = 1.., conflicts_with = "plan")]
+    collect: Vec<PathBuf>,
     #[command(flatten)]
     limit: Limit,
 }
@@ -344,6 +366,78 @@ fn compare(a: CompareArgs, con: &Console) -> xsheat::Result<()> {
     Ok(())
 }
 
+fn sweep(a: SweepArgs, con: &Console) -> xsheat::Result<()> {
+    if !a.collect.is_empty() {
+        return sweep_collect(a, con);
+    }
+    let o = a.limit.options()?;
+    let shard = match &a.shard {
+        Some(s) => sweep::Shard::parse(s)?,
+        None => sweep::Shard::ALL,
+    };
+    let plan_path = a
+        .plan
+        .ok_or_else(|| Error::input("sweep: give a PLAN file, or --collect DIR…"))?;
+    let plan = sweep::Plan::load(&plan_path)?;
+    let mut out = output::ResultDir::check(&a.out, &[&plan_path, &plan.model_path])?;
+    out.lock(con.wait)?;
+    let t0 = std::time::Instant::now();
+    let variants = sweep::run_sweep(&plan, &o, shard, output::variant_files);
+    let run = output::SweepRun {
+        shard: shard.to_string(),
+        threads: sweep::threads(),
+        wall_s: t0.elapsed().as_secs_f64(),
+    };
+    let summary = output::SweepSummary::of(&plan, &variants, run);
+    let failed: Vec<String> = variants
+        .iter()
+        .filter(|v| v.status != sweep::Status::Ok)
+        .map(|v| format!("variant {}: {}", v.index, output::status_cell(&v.status)))
+        .collect();
+    let written = out.commit(&output::sweep_files(&summary, variants)?)?;
+    con.table(&report::sweep_report(&summary));
+    con.warnings(&failed);
+    con.result(&wrote(written.len(), &a.out));
+    con.caution();
+    sweep_failures(&summary)
+}
+
+/// `sweep --collect DIR… --out DIR`.
+fn sweep_collect(a: SweepArgs, con: &Console) -> xsheat::Result<()> {
+    let inputs: Vec<&Path> = a.collect.iter().map(PathBuf::as_path).collect();
+    let mut out = output::ResultDir::check(&a.out, &inputs)?;
+    let t0 = std::time::Instant::now();
+    let (mut summary, set) = output::collect_sweep(
+        &a.collect,
+        output::SweepRun {
+            shard: "collected".into(),
+            threads: 0,
+            wall_s: 0.0,
+        },
+    )?;
+    out.lock(con.wait)?;
+    summary.run.wall_s = t0.elapsed().as_secs_f64();
+    let written = out.commit(&set)?;
+    con.table(&report::sweep_report(&summary));
+    con.result(&wrote(written.len(), &a.out));
+    con.caution();
+    sweep_failures(&summary)
+}
+
+/// Exit 1 after writing when a variant failed.
+fn sweep_failures(s: &output::SweepSummary) -> xsheat::Result<()> {
+    if s.failed.is_empty() {
+        return Ok(());
+    }
+    let list: Vec<String> = s.failed.iter().map(usize::to_string).collect();
+    Err(Error::run(format!(
+        "{} of {} variants failed: {} (status in sweep.csv)",
+        s.failed.len(),
+        s.in_this_set.len(),
+        list.join(", ")
+    )))
+}
+
 fn execute(cli: Cli) -> xsheat::Result<()> {
     let con = Console {
         quiet: cli.quiet,
@@ -357,6 +451,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         Command::Verify(a) => verification(a, &con),
         Command::Gridcheck(a) => gridcheck(a, &con),
         Command::Compare(a) => compare(a, &con),
+        Command::Sweep(a) => sweep(a, &con),
     }
 }
 

@@ -45,6 +45,7 @@ mod manifest;
 mod resultdir;
 mod solve;
 mod summary;
+mod sweep;
 #[cfg(test)]
 mod tests;
 #[cfg(test)]
@@ -62,5 +63,6 @@ pub use manifest::*;
 pub use resultdir::*;
 pub use solve::*;
 pub use summary::*;
+pub use sweep::*;
 pub use verify::*;
 pub use vtk::*;

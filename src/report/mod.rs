@@ -15,12 +15,14 @@ mod check;
 mod converge;
 mod crosscheck;
 mod solve;
+mod sweep;
 mod verify;
 
 pub use check::*;
 pub use converge::*;
 pub use crosscheck::*;
 pub use solve::*;
+pub use sweep::*;
 pub use verify::*;
 
 /// Warnings block: `warnings:` and one `  - …` line each (empty when there are none).

@@ -6,4 +6,5 @@ pub mod adaptive;
 pub mod converge;
 pub mod crosscheck;
 pub mod gci;
+pub mod sweep;
 pub mod verify;
