@@ -215,8 +215,8 @@ fn wrote(count: usize, dir: &Path) -> String {
 fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     let p = run::prepare(&a.model)?;
-    let coarse = run::check_model(&p, &o)?;
-    con.table(&report::check_report(&p, &coarse));
+    let checked = run::check_model(&p, &o)?;
+    con.table(&report::check_report(&p, &checked));
     con.warnings(&p.warnings());
     con.result("model is valid");
     con.caution();

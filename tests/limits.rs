@@ -376,3 +376,51 @@ fn quoted_source_text_is_cut() {
     ];
     assert_refused(cases);
 }
+
+/// The estimate `check` prints counts the ring points (issue 9, item 12): a unit square with
+/// 4,000 ring points and a coarse `max_area` meshes to some 20,000 triangles, which the area
+/// term alone (about 20) would miss. The printed figure must be the one `--max-triangles` is
+/// checked against, and within a factor 1.5 of what `mesh` makes.
+#[test]
+fn check_prints_the_estimate_with_the_ring_points() {
+    let d = common::tmp();
+    let model = common::write(d.path(), "m.toml", &square_with_ring_points(4000));
+    let r = common::xsheat(["check".as_ref(), model.as_os_str()]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let printed: f64 = r
+        .stdout
+        .split("about ")
+        .nth(1)
+        .and_then(|t| t.split_whitespace().next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("no estimate in:\n{}", r.stdout));
+    let out = d.path().join("m.vtu");
+    let m = common::xsheat([
+        "mesh".as_ref(),
+        model.as_os_str(),
+        "--out".as_ref(),
+        out.as_os_str(),
+    ]);
+    assert_eq!(m.code, 0, "{}", m.stderr);
+    let made: f64 = m
+        .stdout
+        .split(" triangles")
+        .next()
+        .and_then(|t| t.rsplit(' ').next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("no triangle count in:\n{}", m.stdout));
+    let ratio = made / printed;
+    assert!(
+        (1.0 / 1.5..=1.5).contains(&ratio),
+        "check printed {printed}, mesh made {made}"
+    );
+    // The same figure refuses the mesh: a limit just below it is refused before meshing.
+    let limit = format!("{}", (printed * 0.9) as usize);
+    let r = common::xsheat([
+        "check".as_ref(),
+        model.as_os_str(),
+        "--max-triangles".as_ref(),
+        limit.as_ref(),
+    ]);
+    assert_eq!(r.code, 2, "{}", r.stdout);
+}

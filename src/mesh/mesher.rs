@@ -33,6 +33,7 @@ pub struct Mesher<'a> {
     n_input: usize,
     bbox_area: f64,
     min_area: f64,
+    estimate: f64,
 }
 
 fn to_point(p: Point2<f64>) -> Point {
@@ -183,7 +184,7 @@ fn zone_limits(section: &Section, pslg: &Pslg) -> Vec<f64> {
 }
 
 /// Estimates the final size from the zones' areas and limits and the sized boundaries;
-/// refuses a mesh above the limit.
+/// refuses a mesh above the limit, else returns the estimate.
 fn check_size_estimate(
     section: &Section,
     cdt: &Cdt,
@@ -191,7 +192,7 @@ fn check_size_estimate(
     zone_limit: &[f64],
     boundary: f64,
     opts: &MeshOptions,
-) -> Result<()> {
+) -> Result<f64> {
     let mut estimate = boundary;
     for f in cdt.inner_faces() {
         if let Some(z) = classified.face_zone[f.fix().index()] {
@@ -208,7 +209,7 @@ fn check_size_estimate(
             estimate_triangles(area, opts.max_triangles as f64)
         )));
     }
-    Ok(())
+    Ok(estimate)
 }
 
 /// True when `p` lies in the diametral circle of a constraint edge of face `g` or of a face next
@@ -259,7 +260,8 @@ impl<'a> Mesher<'a> {
         );
         let zone_limit = zone_limits(section, pslg);
         let classified = classify(&cdt, pslg, &cons)?;
-        check_size_estimate(section, &cdt, &classified, &zone_limit, boundary, opts)?;
+        let estimate =
+            check_size_estimate(section, &cdt, &classified, &zone_limit, boundary, opts)?;
         let [x0, y0, x1, y1] = geom::bbox(verts.iter().map(|p| to_point(*p)));
         // Triangles below `min_area` are left alone by the refinement. Snapped crossing points
         // sit off their segment's line by round-off, which leaves slivers of ~1e-16 relative
@@ -280,7 +282,14 @@ impl<'a> Mesher<'a> {
             n_input: verts.len(),
             bbox_area: (x1 - x0) * (y1 - y0),
             min_area: (1e-6 * diam).powi(2),
+            estimate,
         })
+    }
+
+    /// The triangle count the size limits ask for, as checked against `--max-triangles`:
+    /// zones' areas over their area limits, the ring points' share and the sized boundaries.
+    pub fn estimated_triangles(&self) -> f64 {
+        self.estimate
     }
 
     /// The current triangulation as a [`Mesh`].

@@ -30,8 +30,10 @@ impl OutputSet {
         Self::default()
     }
 
-    /// Adds a file (a plain file name, no directory part). Names are checked when the set is
-    /// written, which refuses the whole set if one is invalid or repeated.
+    /// Adds a file: a plain file name, or a relative path of plain names joined by `/`
+    /// (`winter/summary.json`), whose directories are created inside the set. Names are checked
+    /// when the set is written, which refuses the whole set if one is invalid, repeated, or
+    /// both a file and a directory of another path.
     pub fn add(&mut self, name: impl Into<String>, bytes: Vec<u8>) {
         self.files.push((name.into(), bytes));
     }
@@ -67,7 +69,8 @@ impl OutputSet {
     }
 
     /// Every file as written: the files added, then `manifest.json` unless the set carries its
-    /// own manifest. Names are checked: plain file names, none repeated.
+    /// own manifest. Names are checked: relative paths of plain names, none repeated, none
+    /// also a directory of another path.
     pub(crate) fn complete(&self, dir: &Path) -> Result<Vec<(String, Vec<u8>)>> {
         let mut files = self.files.clone();
         if !self.own_manifest {
@@ -75,13 +78,20 @@ impl OutputSet {
         }
         let mut seen = BTreeSet::new();
         for (name, _) in &files {
-            check_file_name(dir, name)?;
+            check_set_path(dir, name)?;
             if !seen.insert(name.as_str()) {
                 return Err(Error::run(format!(
                     "cannot write {}: the file is listed twice in one output set",
                     dir.join(name).display()
                 )));
             }
+        }
+        let dirs = set_directories(files.iter().map(|(n, _)| n.as_str()));
+        if let Some((name, _)) = files.iter().find(|(n, _)| dirs.contains(n.as_str())) {
+            return Err(Error::run(format!(
+                "cannot write {}: the output set uses it both as a file and as a directory",
+                dir.join(name).display()
+            )));
         }
         Ok(files)
     }
@@ -95,6 +105,30 @@ impl OutputSet {
         d.lock(false)?;
         d.commit(self)
     }
+}
+
+/// Checks a path of a result set: plain names (see [`check_file_name`]) joined by `/`.
+pub(crate) fn check_set_path(dir: &Path, path: &str) -> Result<()> {
+    let mut d = dir.to_path_buf();
+    for part in path.split('/') {
+        check_file_name(&d, part)?;
+        d.push(part);
+    }
+    Ok(())
+}
+
+/// Every directory (relative path, e.g. `winter` and `variants/0001`) that the set paths
+/// `paths` lie in, sorted, parents before their children.
+pub(crate) fn set_directories<'a>(paths: impl IntoIterator<Item = &'a str>) -> BTreeSet<String> {
+    let mut dirs = BTreeSet::new();
+    for p in paths {
+        let mut at = 0;
+        while let Some(i) = p[at..].find('/') {
+            dirs.insert(p[..at + i].to_string());
+            at += i + 1;
+        }
+    }
+    dirs
 }
 
 pub(crate) fn check_file_name(dir: &Path, name: &str) -> Result<()> {

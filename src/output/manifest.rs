@@ -23,7 +23,7 @@ pub const SUMMARY_FILE: &str = "summary.json";
 /// One file of a result set.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct ManifestEntry {
-    /// Path relative to the result directory (a plain file name today).
+    /// Path relative to the result directory, `/`-separated (e.g. `winter/summary.json`).
     pub path: String,
     /// Size in bytes.
     pub bytes: u64,
@@ -91,6 +91,14 @@ pub fn listed_files(dir: &Path) -> Option<BTreeSet<String>> {
         .or_else(|| {
             read_manifest(dir, SUMMARY_FILE, "xsheat.summary/").map(|f| (SUMMARY_FILE, f))
         })?;
+    // A manifest naming anything but a relative path of plain names (`../x`, `/etc/x`) is not
+    // one of ours: its files are then foreign, and nothing outside DIR is ever touched.
+    if files
+        .iter()
+        .any(|e| super::fs::check_set_path(dir, &e.path).is_err())
+    {
+        return None;
+    }
     let mut names: BTreeSet<String> = files.into_iter().map(|e| e.path).collect();
     names.insert(name.to_string());
     Some(names)

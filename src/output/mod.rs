@@ -50,6 +50,8 @@ mod solve;
 mod summary;
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod tests_nested;
 mod verify;
 mod vtk;
 

@@ -19,6 +19,7 @@
 use super::fs::{OutputSet, sync_dir};
 use super::manifest::listed_files;
 use crate::error::{Error, Result};
+use std::collections::BTreeSet;
 use std::fs;
 use std::io::{Read, Seek, Write};
 use std::path::{Path, PathBuf};
@@ -102,22 +103,15 @@ impl ResultDir {
         self.parent.join(format!(".{}.xsheat-lock", self.name))
     }
 
-    /// Refuses the first entry of DIR (by name) that its manifest does not list.
+    /// Refuses the first entry of DIR (by relative path, depth first in name order) that its
+    /// manifest does not list: a file not listed, or a directory no listed file lies in.
     fn check_foreign(&self) -> Result<()> {
-        let Ok(entries) = fs::read_dir(&self.dir) else {
+        if !self.dir.is_dir() {
             return Ok(());
-        };
-        let mut names: Vec<(String, bool)> = entries
-            .filter_map(|e| e.ok())
-            .map(|e| {
-                let file = e.file_type().is_ok_and(|t| t.is_file());
-                (e.file_name().to_string_lossy().into_owned(), file)
-            })
-            .filter(|(n, _)| !n.starts_with(INNER_STAGE))
-            .collect();
-        names.sort();
+        }
         let listed = listed_files(&self.dir).unwrap_or_default();
-        if let Some((n, _)) = names.iter().find(|(n, f)| !f || !listed.contains(n)) {
+        let dirs = super::fs::set_directories(listed.iter().map(String::as_str));
+        if let Some(n) = first_foreign(&self.dir, "", &listed, &dirs) {
             return Err(input(
                 &self.given,
                 format!(
@@ -263,11 +257,12 @@ impl ResultDir {
 
     /// The documented fallback: stage inside DIR, remove the old manifest, replace the files,
     /// move the new manifest in last.
-    fn fallback(&self, files: &[(String, Vec<u8>)]) -> Result<()> {
+    pub(super) fn fallback(&self, files: &[(String, Vec<u8>)]) -> Result<()> {
         fs::create_dir_all(&self.dir).map_err(|e| run_err("create", &self.dir, e))?;
         let stage = self.new_stage(&self.dir, INNER_STAGE)?;
         write_stage(&stage, files)?;
         let old = listed_files(&self.dir).unwrap_or_default();
+        let old_dirs = super::fs::set_directories(old.iter().map(String::as_str));
         let new_manifest = files.last().map(|(n, _)| n.as_str());
         let mut old: Vec<&String> = old.iter().collect();
         // The old manifest goes first: without it the directory is visibly not a set.
@@ -280,6 +275,9 @@ impl ResultDir {
                 return Err(run_err("remove the old result", &p, e));
             }
         }
+        remove_empty_dirs(&self.dir, &old_dirs);
+        create_set_dirs(&self.dir, files)
+            .map_err(|e| run_err("create a directory in", &self.dir, e))?;
         let manifest_name = super::manifest::MANIFEST_FILE;
         let mut order: Vec<&(String, Vec<u8>)> = files.iter().collect();
         order.sort_by_key(|(n, _)| Some(n.as_str()) == new_manifest || n == manifest_name);
@@ -293,8 +291,76 @@ impl ResultDir {
     }
 }
 
-/// Writes every file into the staging directory, flushes each and the directory.
+/// The first entry below `dir` (shown as `prefix` + name) that is neither a file in `listed`
+/// nor a directory in `dirs`; fallback staging directories at the top are skipped.
+fn first_foreign(
+    dir: &Path,
+    prefix: &str,
+    listed: &BTreeSet<String>,
+    dirs: &BTreeSet<String>,
+) -> Option<String> {
+    let entries = fs::read_dir(dir).ok()?;
+    let mut names: Vec<(String, bool, bool)> = entries
+        .filter_map(|e| e.ok())
+        .map(|e| {
+            let t = e.file_type().ok();
+            let name = format!("{prefix}{}", e.file_name().to_string_lossy());
+            (
+                name,
+                t.is_some_and(|t| t.is_file()),
+                t.is_some_and(|t| t.is_dir()),
+            )
+        })
+        .filter(|(n, _, _)| !(prefix.is_empty() && n.starts_with(INNER_STAGE)))
+        .collect();
+    names.sort();
+    for (n, file, is_dir) in names {
+        if file && listed.contains(&n) {
+            continue;
+        }
+        if is_dir && dirs.contains(&n) {
+            if let Some(f) = first_foreign(
+                &dir.join(&n[prefix.len()..]),
+                &format!("{n}/"),
+                listed,
+                dirs,
+            ) {
+                return Some(f);
+            }
+            continue;
+        }
+        return Some(n);
+    }
+    None
+}
+
+/// Creates the directories of the set's nested paths inside `root` (parents first).
+fn create_set_dirs(root: &Path, files: &[(String, Vec<u8>)]) -> std::io::Result<Vec<PathBuf>> {
+    let dirs = super::fs::set_directories(files.iter().map(|(n, _)| n.as_str()));
+    let mut made = Vec::new();
+    for d in dirs {
+        let p = root.join(&d);
+        match fs::create_dir(&p) {
+            Ok(()) => made.push(p),
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && p.is_dir() => {}
+            Err(e) => return Err(e),
+        }
+    }
+    Ok(made)
+}
+
+/// Writes every file into the staging directory, flushes each and every directory.
 fn write_stage(stage: &Path, files: &[(String, Vec<u8>)]) -> Result<()> {
+    let dirs = match create_set_dirs(stage, files) {
+        Ok(d) => d,
+        Err(e) => {
+            let _ = fs::remove_dir_all(stage);
+            return Err(Error::run(format!(
+                "cannot create a directory in {}: {e}; the result directory was not changed",
+                stage.display()
+            )));
+        }
+    };
     for (name, bytes) in files {
         let p = stage.join(name);
         let done = fs::File::create_new(&p).and_then(|mut f| {
@@ -310,8 +376,18 @@ fn write_stage(stage: &Path, files: &[(String, Vec<u8>)]) -> Result<()> {
             )));
         }
     }
+    for d in dirs.iter().rev() {
+        sync_dir(d);
+    }
     sync_dir(stage);
     Ok(())
+}
+
+/// Removes the directories `dirs` (relative to `root`) that are empty, children first.
+fn remove_empty_dirs(root: &Path, dirs: &BTreeSet<String>) {
+    for d in dirs.iter().rev() {
+        let _ = fs::remove_dir(root.join(d));
+    }
 }
 
 /// Swaps two directories in one step. `Ok(None)` when the platform or the file system offers

@@ -4,7 +4,7 @@
 use super::{fixed, push_table, sci, table};
 use crate::mesh::{self, Mesh};
 use crate::model::{BoundaryKind, Ring, Section};
-use crate::run::Prepared;
+use crate::run::{ModelCheck, Prepared};
 use std::fmt::Write;
 
 fn ring_line(r: &Ring) -> String {
@@ -50,7 +50,7 @@ fn boundary_length(s: &Section, id: usize) -> f64 {
         .sum()
 }
 
-fn section_lines(o: &mut String, p: &Prepared) {
+fn section_lines(o: &mut String, p: &Prepared, estimated_triangles: f64) {
     let s = &p.section;
     let area = mesh::section_area(s);
     let _ = writeln!(
@@ -61,7 +61,7 @@ fn section_lines(o: &mut String, p: &Prepared) {
     );
     let _ = writeln!(
         o,
-        "mesh settings: max_area {} m²{}, min_angle {}°, about {:.0} triangles expected",
+        "mesh settings: max_area {} m²{}, min_angle {}°, about {:.0} triangles expected (area limits, ring points and boundary sizes)",
         sci(s.mesh.max_area, 6),
         if s.mesh.max_area_is_default {
             " (default: section area / 4000)"
@@ -69,7 +69,7 @@ fn section_lines(o: &mut String, p: &Prepared) {
             ""
         },
         s.mesh.min_angle,
-        mesh::estimate_triangles(area, s.mesh.max_area)
+        estimated_triangles
     );
 }
 
@@ -126,12 +126,13 @@ fn boundaries_table(o: &mut String, s: &Section) {
 }
 
 /// What a validated model holds: section, mesh settings, materials, rings, boundaries, probes,
-/// lines and the segment set (`mesh` is the unrefined triangulation).
-pub fn check_report(p: &Prepared, mesh: &Mesh) -> String {
+/// lines and the segment set (`checked.coarse` is the unrefined triangulation).
+pub fn check_report(p: &Prepared, checked: &ModelCheck) -> String {
     let s = &p.section;
+    let mesh = &checked.coarse;
     let mut o = String::new();
     let _ = writeln!(o, "model: {}", s.title);
-    section_lines(&mut o, p);
+    section_lines(&mut o, p, checked.estimated_triangles);
     materials_table(&mut o, s);
     rings_lines(&mut o, s);
     boundaries_table(&mut o, s);

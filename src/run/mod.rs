@@ -127,21 +127,29 @@ pub fn mesh(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
     mesh::build(&prepared.section, &prepared.pslg, opts)
 }
 
-/// Runs every model-level validation that [`solve()`] runs, on the coarse (unrefined) mesh,
-/// and returns that mesh: the mesh limits, the mesh against the section and the determinacy
-/// check (some fixed or convective edge on every connected part). A model refused here is
-/// refused by `solve` with the same error.
-pub fn check_model(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
-    let coarse = mesh(
-        prepared,
-        &MeshOptions {
-            refine: false,
-            ..*opts
-        },
-    )?;
+/// What [`check_model`] found: the coarse mesh and the size estimate.
+#[derive(Debug, Clone)]
+pub struct ModelCheck {
+    /// The coarse (unrefined) mesh: the segment set triangulated, classified by zone.
+    pub coarse: Mesh,
+    /// Triangles the size limits ask for, as checked against `--max-triangles`
+    /// ([`mesh::Mesher::estimated_triangles`]).
+    pub estimated_triangles: f64,
+}
+
+/// Runs every model-level validation that [`solve()`] runs, on the coarse (unrefined) mesh:
+/// the mesh limits, the mesh against the section and the determinacy check (some fixed or
+/// convective edge on every connected part). A model refused here is refused by `solve` with
+/// the same error.
+pub fn check_model(prepared: &Prepared, opts: &MeshOptions) -> Result<ModelCheck> {
+    let mesher = mesh::Mesher::new(&prepared.section, &prepared.pslg, opts)?;
+    let coarse = mesher.mesh()?;
     fem::check_mesh(&prepared.section, &coarse)?;
     fem::checks::check_determined(&prepared.section, &coarse)?;
-    Ok(coarse)
+    Ok(ModelCheck {
+        estimated_triangles: mesher.estimated_triangles(),
+        coarse,
+    })
 }
 
 /// Mesh, assemble, solve and post-process a prepared model, and run the self-checks.
