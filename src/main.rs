@@ -85,6 +85,9 @@ struct MeshArgs {
     out: PathBuf,
     #[command(flatten)]
     limit: Limit,
+    /// zlib-compress the arrays of the .vtu (smaller file, slower to write).
+    #[arg(long)]
+    vtk_compress: bool,
 }
 
 #[derive(Args)]
@@ -104,6 +107,16 @@ struct SolveArgs {
     /// target instead of writing the best mesh's results with a warning.
     #[arg(long, requires = "target_error")]
     strict: bool,
+    /// zlib-compress the arrays of field.vtu (smaller file, slower to write).
+    #[arg(long)]
+    vtk_compress: bool,
+    /// Do not write nodes.csv (field.vtu holds the same points and temperatures).
+    #[arg(long)]
+    no_nodes_csv: bool,
+    /// Also write the reduced system (K.mtx, f.mtx, free_nodes.csv; Matrix Market) into this
+    /// directory, its own result set, for comparisons with other solvers.
+    #[arg(long, value_name = "DIR")]
+    export_matrix: Option<PathBuf>,
 }
 
 #[derive(Args)]
@@ -237,7 +250,10 @@ fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
     let target = output::check_out_file(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
     let m = run::mesh(&p, &o)?;
-    output::write_file_atomic(&target, &output::mesh_vtu(&m)?)?;
+    let vtk = output::VtkOptions {
+        compress: a.vtk_compress,
+    };
+    output::write_file_atomic(&target, &output::mesh_vtu_with(&m, &vtk)?)?;
     con.table(&report::mesh_report(&p.section, &m));
     con.warnings(&p.warnings());
     con.result(&format!("wrote {}", a.out.display()));
@@ -251,8 +267,15 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         adaptive::check_target_error(e)?;
     }
     let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
+    let mut matrix_out = match &a.export_matrix {
+        Some(dir) => Some(matrix_dir(dir, &a.out, &a.model)?),
+        None => None,
+    };
     let p = run::prepare(&a.model)?;
     out.lock(con.wait)?;
+    if let Some(m) = &mut matrix_out {
+        m.lock(con.wait)?;
+    }
     let solved = match a.target_error {
         Some(e) => adaptive::solve_adaptive(p, &o, e)?,
         None => run::solve(p, &o)?,
@@ -273,10 +296,39 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
             "--strict: adaptive refinement stopped above the target error {t}, no results written (see the warning)"
         )));
     }
-    let written = out.commit(&output::solve_files(&solved)?)?;
+    let files = output::SolveFileOptions {
+        vtk: output::VtkOptions {
+            compress: a.vtk_compress,
+        },
+        nodes_csv: !a.no_nodes_csv,
+    };
+    let set = output::solve_files_with(&solved, &files)?;
+    let matrix = match &matrix_out {
+        Some(_) => Some(output::matrix_files(&solved.system, &solved.mesh)?),
+        None => None,
+    };
+    let written = out.commit(&set)?;
     con.result(&wrote(written.len(), &a.out));
+    if let (Some(dir), Some(m), Some(set)) = (&a.export_matrix, &mut matrix_out, &matrix) {
+        con.result(&wrote(m.commit(set)?.len(), dir));
+    }
     con.caution();
     Ok(())
+}
+
+/// The `--export-matrix` directory, checked: not the `--out` directory, neither inside the
+/// other (committing one would replace the other).
+fn matrix_dir(dir: &Path, out: &Path, model: &Path) -> xsheat::Result<output::ResultDir> {
+    let abs = |p: &Path| std::path::absolute(p).unwrap_or_else(|_| p.to_path_buf());
+    let (d, o) = (abs(dir), abs(out));
+    if d.starts_with(&o) || o.starts_with(&d) {
+        return Err(Error::input(format!(
+            "--export-matrix {}: must not be --out {}, nor inside it or around it",
+            dir.display(),
+            out.display()
+        )));
+    }
+    output::ResultDir::check(dir, &[model])
 }
 
 /// One stderr line per failed self-check (those of severity warning not with --quiet).

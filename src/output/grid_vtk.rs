@@ -1,16 +1,23 @@
 //! VTK encoding of a solved grid (finite-difference) model.
 
+use super::vtk::{VtkArray, VtkOptions, VtkValues, VtuPiece, encode_vtu};
 use crate::error::{Error, Result};
 use crate::grid::{GridModel, GridSolution, NodeKind};
 
-/// The solved grid as VTK XML unstructured grid bytes (`.vtu`): the nodes as points (x, y, 0)
-/// with point data `temperature_c` (°C) and `kind` (Int32: 0 interior, 1 edge, 2 fixed); a quad
-/// cell (no cell data) for every in-section grid cell whose four corners are nodes.
-/// Grid points outside the section are omitted.
+/// The solved grid as VTK XML unstructured grid bytes (`.vtu`), uncompressed: the nodes as
+/// points (x, y, 0) with point data `temperature_c` (°C) and `kind` (Int32: 0 interior, 1 edge,
+/// 2 fixed); a quad cell (no cell data) for every in-section grid cell whose four corners are
+/// nodes. Grid points outside the section are omitted.
 pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
-    use vtkio::model::{
-        Attribute, Attributes, CellType, Cells, UnstructuredGridPiece, VertexNumbers,
-    };
+    grid_vtu_with(model, solution, &VtkOptions::default())
+}
+
+/// [`grid_vtu`] with the encoding `options`.
+pub fn grid_vtu_with(
+    model: &GridModel,
+    solution: &GridSolution,
+    options: &VtkOptions,
+) -> Result<Vec<u8>> {
     if solution.temperature.len() != model.nodes.len() {
         return Err(Error::run(format!(
             "grid model: the solution holds {} temperatures for {} nodes",
@@ -41,28 +48,26 @@ pub fn grid_vtu(model: &GridModel, solution: &GridSolution) -> Result<Vec<u8>> {
                 model.node_index(i, j + 1),
             ];
             if let [Some(a), Some(b), Some(c), Some(d)] = c {
-                connectivity.extend([a as u64, b as u64, c as u64, d as u64]);
+                connectivity.extend([a as i64, b as i64, c as i64, d as i64]);
             }
         }
     }
-    let ncells = connectivity.len() / 4;
-    let offsets: Vec<u64> = (1..=ncells as u64).map(|k| 4 * k).collect();
-    let piece = UnstructuredGridPiece {
-        points: points.into(),
-        cells: Cells {
-            cell_verts: VertexNumbers::XML {
-                connectivity,
-                offsets,
-            },
-            types: vec![CellType::Quad; ncells],
-        },
-        data: Attributes {
-            point: vec![
-                Attribute::scalars("temperature_c", 1).with_data(solution.temperature.clone()),
-                Attribute::scalars("kind", 1).with_data(kind),
+    encode_vtu(
+        &VtuPiece {
+            points: &points,
+            connectivity: &connectivity,
+            verts_per_cell: 4,
+            cell_type: 9,
+            point_data: vec![
+                VtkArray::scalars("temperature_c", &solution.temperature),
+                VtkArray {
+                    name: "kind",
+                    components: 1,
+                    values: VtkValues::I32(&kind),
+                },
             ],
-            cell: vec![],
+            cell_data: vec![],
         },
-    };
-    crate::output::encode_vtu("grid", piece)
+        options,
+    )
 }

@@ -6,7 +6,8 @@
 //!   one step (staged beside it, flushed, swapped in), under an advisory lock, with a manifest
 //!   (`manifest.rs`: [`ManifestEntry`], summary.json's `files` or `manifest.json`);
 //! * the VTK XML unstructured-grid writers [`field_vtu`] (solved field), [`mesh_vtu`] (mesh and
-//!   its quality) and [`grid_vtu`] (grid model);
+//!   its quality) and [`grid_vtu`] (grid model), written by our own encoder ([`encode_vtu`]);
+//! * the Matrix Market export of the reduced system ([`matrix_files`], `matrix.rs`);
 //! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`], [`boundaries_csv`] and those
 //!   of the studies (convergence, verify, gridcheck, compare);
 //! * the JSON files, each a typed serde record with `"schema": "xsheat.<kind>/<n>"`:
@@ -30,8 +31,9 @@
 //!   zero (either sign) is written `0`; non-finite values are written `NaN`, `inf`, `-inf`.
 //! * JSON numbers are written by `serde_json` (shortest round-trip, e.g. `0.1`, `1e-7`);
 //!   a non-finite value becomes `null`.
-//! * VTK arrays are stored exactly as little-endian binary (Float64 / Int32 / UInt64), base64
-//!   encoded inline, uncompressed, so no decimal conversion happens at all.
+//! * VTK arrays are stored exactly as little-endian binary (Float64 / Int32 / Int64 / UInt8),
+//!   base64-encoded appended data, optionally zlib-compressed at a fixed level ([`VtkOptions`]),
+//!   so no decimal conversion happens at all.
 //!
 //! Node and triangle numbers in every file are 0-based, matching VTK point and cell ids.
 
@@ -42,6 +44,7 @@ mod fs;
 mod grid_vtk;
 mod json;
 mod manifest;
+mod matrix;
 mod resultdir;
 mod solve;
 mod summary;
@@ -60,6 +63,7 @@ pub use fs::*;
 pub use grid_vtk::*;
 pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
 pub use manifest::*;
+pub use matrix::*;
 pub use resultdir::*;
 pub use solve::*;
 pub use summary::*;

@@ -1,22 +1,49 @@
 //! The result set of `xsheat solve`: every file of a solved model, in memory.
 
 use crate::error::Result;
-use crate::output::{self, OutputSet};
+use crate::output::{self, OutputSet, VtkOptions};
 use crate::run::Solved;
+
+/// Choices of `solve` about its files.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SolveFileOptions {
+    /// How field.vtu is encoded (`--vtk-compress`).
+    pub vtk: VtkOptions,
+    /// Write nodes.csv (false with `--no-nodes-csv`; field.vtu holds the same points).
+    pub nodes_csv: bool,
+}
+
+impl Default for SolveFileOptions {
+    fn default() -> Self {
+        SolveFileOptions {
+            vtk: VtkOptions::default(),
+            nodes_csv: true,
+        }
+    }
+}
 
 /// All files of a solve, in memory, ready to be committed atomically to a directory.
 pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
+    solve_files_with(sv, &SolveFileOptions::default())
+}
+
+/// [`solve_files`] with the file choices `options`.
+pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<OutputSet> {
     let s = sv.section();
     let mut set = OutputSet::new();
     set.add(
         "field.vtu",
-        output::field_vtu_with(
+        output::field_vtu_arrays(
             &sv.mesh,
             &sv.results,
             &[("error_indicator", &sv.error_estimate.indicator)],
+            &[],
+            &options.vtk,
         )?,
     );
-    set.add("nodes.csv", output::nodes_csv(&sv.mesh, &sv.results)?);
+    if options.nodes_csv {
+        set.add("nodes.csv", output::nodes_csv(&sv.mesh, &sv.results)?);
+    }
     set.add("probes.csv", output::probes_csv(&sv.results)?);
     set.add("boundaries.csv", output::boundaries_csv(&sv.results)?);
     for l in &sv.results.lines {

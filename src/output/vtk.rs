@@ -1,12 +1,20 @@
 //! VTK XML unstructured-grid encoding of meshes and solved fields.
+//!
+//! The XML is written here directly (not through vtkio's writer): every array is appended
+//! data (`<AppendedData encoding="base64">`, `header_type="UInt64"`, little-endian), so the
+//! payload is plain base64 that needs no XML escaping. Uncompressed, each array is one base64
+//! stream of its byte count (UInt64) and its bytes; with [`VtkOptions::compress`], each array is
+//! one zlib block (level 6, fixed, so files are byte-identical between runs): the header
+//! `[1, n, 0, compressed size]` (UInt64) and the compressed bytes as two base64 streams, the
+//! layout of `vtkZLibDataCompressor`. vtkio 0.6 reads this layout back (its reader decodes only
+//! the first zlib stream of an array, hence one block per array); it does not read raw appended
+//! data (binary bytes such as `<` break its XML parser), so raw is not offered.
 
 use crate::error::{Error, Result};
 use crate::mesh::Mesh;
 use crate::post::Results;
-use vtkio::model::{
-    Attribute, Attributes, ByteOrder, CellType, Cells, DataSet, Piece, UnstructuredGridPiece,
-    Version, VertexNumbers, Vtk,
-};
+use std::fmt::Write as _;
+use std::io::Write as _;
 
 // ---------------------------------------------------------------------------------------------
 // Consistency checks (the writers never index out of bounds)
@@ -25,11 +33,301 @@ pub(crate) fn check_results(mesh: &Mesh, results: &Results) -> Result<()> {
 }
 
 // ---------------------------------------------------------------------------------------------
-// VTK
+// The encoder
+// ---------------------------------------------------------------------------------------------
+
+/// How VTK XML arrays are stored.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct VtkOptions {
+    /// zlib-compress every array (`compressor="vtkZLibDataCompressor"`, level 6).
+    pub compress: bool,
+}
+
+/// The zlib level of compressed arrays (fixed: the same input gives the same bytes).
+pub const VTK_ZLIB_LEVEL: u32 = 6;
+
+/// The values of one array, little-endian on output.
+#[derive(Debug, Clone, Copy)]
+pub enum VtkValues<'a> {
+    /// `Float64`.
+    F64(&'a [f64]),
+    /// `Int32`.
+    I32(&'a [i32]),
+    /// `Int64`.
+    I64(&'a [i64]),
+    /// `UInt8`.
+    U8(&'a [u8]),
+}
+
+impl VtkValues<'_> {
+    fn type_name(&self) -> &'static str {
+        match self {
+            VtkValues::F64(_) => "Float64",
+            VtkValues::I32(_) => "Int32",
+            VtkValues::I64(_) => "Int64",
+            VtkValues::U8(_) => "UInt8",
+        }
+    }
+
+    fn len(&self) -> usize {
+        match self {
+            VtkValues::F64(v) => v.len(),
+            VtkValues::I32(v) => v.len(),
+            VtkValues::I64(v) => v.len(),
+            VtkValues::U8(v) => v.len(),
+        }
+    }
+
+    fn le_bytes(&self) -> Vec<u8> {
+        fn collect<const N: usize, T: Copy>(v: &[T], f: impl Fn(T) -> [u8; N]) -> Vec<u8> {
+            let mut out = Vec::with_capacity(v.len() * N);
+            for &x in v {
+                out.extend_from_slice(&f(x));
+            }
+            out
+        }
+        match self {
+            VtkValues::F64(v) => collect(v, f64::to_le_bytes),
+            VtkValues::I32(v) => collect(v, i32::to_le_bytes),
+            VtkValues::I64(v) => collect(v, i64::to_le_bytes),
+            VtkValues::U8(v) => v.to_vec(),
+        }
+    }
+}
+
+/// One named array: `name`, components per tuple, values (tuples × components).
+#[derive(Debug, Clone, Copy)]
+pub struct VtkArray<'a> {
+    /// Array name (escaped for XML when written).
+    pub name: &'a str,
+    /// Components per tuple: 1 for scalars, 3 for vectors.
+    pub components: usize,
+    /// The values, tuple after tuple.
+    pub values: VtkValues<'a>,
+}
+
+impl<'a> VtkArray<'a> {
+    /// A scalar `Float64` array.
+    pub fn scalars(name: &'a str, values: &'a [f64]) -> Self {
+        VtkArray {
+            name,
+            components: 1,
+            values: VtkValues::F64(values),
+        }
+    }
+
+    /// A 3-component `Float64` array (x, y, z per tuple).
+    pub fn vectors(name: &'a str, values: &'a [f64]) -> Self {
+        VtkArray {
+            name,
+            components: 3,
+            values: VtkValues::F64(values),
+        }
+    }
+}
+
+/// One unstructured-grid piece: points (x, y, z flattened), cells of one VTK cell type with a
+/// fixed vertex count, point and cell arrays.
+#[derive(Debug, Clone)]
+pub struct VtuPiece<'a> {
+    /// Point coordinates, 3 per point.
+    pub points: &'a [f64],
+    /// Vertex numbers of the cells, `verts_per_cell` per cell.
+    pub connectivity: &'a [i64],
+    /// Vertices per cell (3 triangles, 4 quads).
+    pub verts_per_cell: usize,
+    /// VTK cell type code (5 triangle, 9 quad).
+    pub cell_type: u8,
+    /// Point data.
+    pub point_data: Vec<VtkArray<'a>>,
+    /// Cell data.
+    pub cell_data: Vec<VtkArray<'a>>,
+}
+
+/// Standard base64 (RFC 4648, with `=` padding) of `bytes`, appended to `out`.
+fn base64_into(out: &mut Vec<u8>, bytes: &[u8]) {
+    const TABLE: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
+    out.reserve(bytes.len().div_ceil(3) * 4);
+    let mut chunks = bytes.chunks_exact(3);
+    for c in &mut chunks {
+        let n = (u32::from(c[0]) << 16) | (u32::from(c[1]) << 8) | u32::from(c[2]);
+        out.extend_from_slice(&[
+            TABLE[(n >> 18) as usize & 63],
+            TABLE[(n >> 12) as usize & 63],
+            TABLE[(n >> 6) as usize & 63],
+            TABLE[n as usize & 63],
+        ]);
+    }
+    match *chunks.remainder() {
+        [a] => {
+            let n = u32::from(a) << 16;
+            out.extend_from_slice(&[TABLE[(n >> 18) as usize], TABLE[(n >> 12) as usize & 63]]);
+            out.extend_from_slice(b"==");
+        }
+        [a, b] => {
+            let n = (u32::from(a) << 16) | (u32::from(b) << 8);
+            out.extend_from_slice(&[
+                TABLE[(n >> 18) as usize],
+                TABLE[(n >> 12) as usize & 63],
+                TABLE[(n >> 6) as usize & 63],
+                b'=',
+            ]);
+        }
+        _ => {}
+    }
+}
+
+/// `text` with the five XML special characters escaped, for attribute values.
+fn xml_attr(text: &str) -> String {
+    let mut s = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => s.push_str("&amp;"),
+            '<' => s.push_str("&lt;"),
+            '>' => s.push_str("&gt;"),
+            '"' => s.push_str("&quot;"),
+            '\'' => s.push_str("&apos;"),
+            c => s.push(c),
+        }
+    }
+    s
+}
+
+/// Collects the XML of the arrays and their appended base64 payload.
+struct Appender {
+    compress: bool,
+    xml: String,
+    payload: Vec<u8>,
+}
+
+impl Appender {
+    fn array(
+        &mut self,
+        indent: &str,
+        name: &str,
+        components: usize,
+        values: VtkValues,
+    ) -> Result<()> {
+        let _ = writeln!(
+            self.xml,
+            r#"{indent}<DataArray type="{}" Name="{}" NumberOfComponents="{components}" format="appended" offset="{}"/>"#,
+            values.type_name(),
+            xml_attr(name),
+            self.payload.len()
+        );
+        let bytes = values.le_bytes();
+        let n = bytes.len() as u64;
+        if self.compress {
+            let mut z = flate2::write::ZlibEncoder::new(
+                Vec::with_capacity(bytes.len() / 2),
+                flate2::Compression::new(VTK_ZLIB_LEVEL),
+            );
+            let packed = z
+                .write_all(&bytes)
+                .and_then(|()| z.finish())
+                .map_err(|e| Error::run(format!("cannot compress VTK array {name}: {e}")))?;
+            let header: Vec<u8> = [1, n, 0, packed.len() as u64]
+                .iter()
+                .flat_map(|h| h.to_le_bytes())
+                .collect();
+            base64_into(&mut self.payload, &header);
+            base64_into(&mut self.payload, &packed);
+        } else {
+            let mut all = Vec::with_capacity(8 + bytes.len());
+            all.extend_from_slice(&n.to_le_bytes());
+            all.extend_from_slice(&bytes);
+            base64_into(&mut self.payload, &all);
+        }
+        Ok(())
+    }
+
+    fn data(&mut self, tag: &str, arrays: &[VtkArray], tuples: usize) -> Result<()> {
+        let _ = writeln!(self.xml, "      <{tag}>");
+        for a in arrays {
+            if a.components == 0 || a.values.len() != a.components * tuples {
+                return Err(Error::run(format!(
+                    "internal: VTK array {} has {} values for {tuples} tuples of {}",
+                    a.name,
+                    a.values.len(),
+                    a.components
+                )));
+            }
+            self.array("        ", a.name, a.components, a.values)?;
+        }
+        let _ = writeln!(self.xml, "      </{tag}>");
+        Ok(())
+    }
+}
+
+/// One unstructured-grid piece as VTK XML (`.vtu`) bytes (see the module documentation for
+/// the layout), ending in a newline.
+pub fn encode_vtu(piece: &VtuPiece, options: &VtkOptions) -> Result<Vec<u8>> {
+    let points = piece.points.len() / 3;
+    let per = piece.verts_per_cell.max(1);
+    let cells = piece.connectivity.len() / per;
+    if !piece.points.len().is_multiple_of(3) || !piece.connectivity.len().is_multiple_of(per) {
+        return Err(Error::run(
+            "internal: VTK piece with partial points or cells",
+        ));
+    }
+    if let Some(v) = piece
+        .connectivity
+        .iter()
+        .find(|&&v| v < 0 || v as usize >= points)
+    {
+        return Err(Error::run(format!(
+            "internal: VTK cell vertex {v} of {points} points"
+        )));
+    }
+    let compressor = if options.compress {
+        r#" compressor="vtkZLibDataCompressor""#
+    } else {
+        ""
+    };
+    let mut a = Appender {
+        compress: options.compress,
+        xml: format!(
+            "<?xml version=\"1.0\"?>\n<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" \
+             byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  \
+             <UnstructuredGrid>\n    <Piece NumberOfPoints=\"{points}\" NumberOfCells=\"{cells}\">\n"
+        ),
+        payload: Vec::new(),
+    };
+    a.data("PointData", &piece.point_data, points)?;
+    a.data("CellData", &piece.cell_data, cells)?;
+    a.xml.push_str("      <Points>\n");
+    a.array("        ", "Points", 3, VtkValues::F64(piece.points))?;
+    a.xml.push_str("      </Points>\n      <Cells>\n");
+    let offsets: Vec<i64> = (1..=cells as i64).map(|i| i * per as i64).collect();
+    let types = vec![piece.cell_type; cells];
+    a.array(
+        "        ",
+        "connectivity",
+        1,
+        VtkValues::I64(piece.connectivity),
+    )?;
+    a.array("        ", "offsets", 1, VtkValues::I64(&offsets))?;
+    a.array("        ", "types", 1, VtkValues::U8(&types))?;
+    a.xml.push_str(
+        "      </Cells>\n    </Piece>\n  </UnstructuredGrid>\n  <AppendedData encoding=\"base64\">\n   _",
+    );
+    let mut out = a.xml.into_bytes();
+    out.reserve(a.payload.len() + 32);
+    out.extend_from_slice(&a.payload);
+    out.extend_from_slice(b"\n  </AppendedData>\n</VTKFile>\n");
+    Ok(out)
+}
+
+// ---------------------------------------------------------------------------------------------
+// Meshes and fields
 // ---------------------------------------------------------------------------------------------
 
 fn vec3(v: &[[f64; 2]]) -> Vec<f64> {
-    v.iter().flat_map(|a| [a[0], a[1], 0.0]).collect()
+    let mut out = Vec::with_capacity(3 * v.len());
+    for a in v {
+        out.extend_from_slice(&[a[0], a[1], 0.0]);
+    }
+    out
 }
 
 fn material_ids(mesh: &Mesh) -> Result<Vec<i32>> {
@@ -47,50 +345,32 @@ fn min_angle_deg(mesh: &Mesh, t: usize) -> f64 {
     crate::mesh::min_angle_of(mesh.triangles[t].map(|v| mesh.nodes[v]))
 }
 
-fn unstructured_vtu(mesh: &Mesh, title: &str, data: Attributes) -> Result<Vec<u8>> {
-    let connectivity: Vec<u64> = mesh
-        .triangles
-        .iter()
-        .flat_map(|t| t.map(|v| v as u64))
-        .collect();
-    let offsets: Vec<u64> = (1..=mesh.triangles.len() as u64).map(|i| 3 * i).collect();
-    let piece = UnstructuredGridPiece {
-        points: vec3(&mesh.nodes).into(),
-        cells: Cells {
-            cell_verts: VertexNumbers::XML {
-                connectivity,
-                offsets,
-            },
-            types: vec![CellType::Triangle; mesh.triangles.len()],
-        },
-        data,
-    };
-    encode_vtu(title, piece)
-}
-
-/// One unstructured-grid piece as VTK XML (`.vtu`) bytes: little-endian, base64 binary arrays,
-/// a trailing newline.
-pub fn encode_vtu(title: &str, piece: UnstructuredGridPiece) -> Result<Vec<u8>> {
-    let vtk = Vtk {
-        version: Version::new((1, 0)),
-        title: title.to_string(),
-        byte_order: ByteOrder::LittleEndian,
-        data: DataSet::UnstructuredGrid {
-            meta: None,
-            pieces: vec![Piece::Inline(Box::new(piece))],
-        },
-        file_path: None,
-    };
-    let mut out = Vec::new();
-    vtk.write_xml(&mut out)
-        .map_err(|e| Error::run(format!("cannot encode VTK XML ({title}): {e}")))?;
-    if !out.ends_with(b"\n") {
-        out.push(b'\n');
+/// The mesh's points and triangles with the given arrays, encoded.
+fn triangles_vtu(
+    mesh: &Mesh,
+    point_data: Vec<VtkArray>,
+    cell_data: Vec<VtkArray>,
+    options: &VtkOptions,
+) -> Result<Vec<u8>> {
+    let points = vec3(&mesh.nodes);
+    let mut connectivity = Vec::with_capacity(3 * mesh.triangles.len());
+    for t in &mesh.triangles {
+        connectivity.extend(t.map(|v| v as i64));
     }
-    Ok(out)
+    encode_vtu(
+        &VtuPiece {
+            points: &points,
+            connectivity: &connectivity,
+            verts_per_cell: 3,
+            cell_type: 5,
+            point_data,
+            cell_data,
+        },
+        options,
+    )
 }
 
-/// The solved field as a VTK XML unstructured grid (`.vtu`).
+/// The solved field as a VTK XML unstructured grid (`.vtu`), uncompressed.
 ///
 /// Points (x, y, 0) m; triangle cells. Point data: `temperature_c` (°C),
 /// `heat_flux_nodal_w_per_m2` (W/m²) and `gradient_nodal_k_per_m` (K/m), vectors with z = 0.
@@ -107,51 +387,73 @@ pub fn field_vtu_with(
     results: &Results,
     extra_cells: &[(&str, &[f64])],
 ) -> Result<Vec<u8>> {
+    field_vtu_arrays(mesh, results, extra_cells, &[], &VtkOptions::default())
+}
+
+/// [`field_vtu_with`] with further scalar point arrays (name, one value per node, e.g. the
+/// temperature of a load case `temperature_c:CASE`), written after the standard point arrays,
+/// and the encoding `options`.
+pub fn field_vtu_arrays(
+    mesh: &Mesh,
+    results: &Results,
+    extra_cells: &[(&str, &[f64])],
+    extra_points: &[(&str, &[f64])],
+    options: &VtkOptions,
+) -> Result<Vec<u8>> {
     check_mesh(mesh)?;
     check_results(mesh, results)?;
     for (name, values) in extra_cells {
-        if values.len() != mesh.triangles.len() {
-            return Err(Error::run(format!(
-                "internal: cell array {name} has {} values for {} triangles",
-                values.len(),
-                mesh.triangles.len()
-            )));
-        }
+        check_len(name, values.len(), mesh.triangles.len(), "triangle")?;
     }
-    let mut data = Attributes {
-        point: vec![
-            Attribute::scalars("temperature_c", 1).with_data(results.temperature.clone()),
-            Attribute::vectors("heat_flux_nodal_w_per_m2").with_data(vec3(&results.nodal_flux)),
-            Attribute::vectors("gradient_nodal_k_per_m").with_data(vec3(&results.nodal_gradient)),
-        ],
-        cell: vec![
-            Attribute::vectors("heat_flux_w_per_m2").with_data(vec3(&results.cell_flux)),
-            Attribute::vectors("gradient_k_per_m").with_data(vec3(&results.cell_gradient)),
-            Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
-        ],
-    };
-    for (name, values) in extra_cells {
-        data.cell
-            .push(Attribute::scalars(*name, 1).with_data(values.to_vec()));
+    for (name, values) in extra_points {
+        check_len(name, values.len(), mesh.nodes.len(), "node")?;
     }
-    unstructured_vtu(mesh, "field", data)
+    let nodal_flux = vec3(&results.nodal_flux);
+    let nodal_gradient = vec3(&results.nodal_gradient);
+    let cell_flux = vec3(&results.cell_flux);
+    let cell_gradient = vec3(&results.cell_gradient);
+    let material = material_ids(mesh)?;
+    let mut point = vec![
+        VtkArray::scalars("temperature_c", &results.temperature),
+        VtkArray::vectors("heat_flux_nodal_w_per_m2", &nodal_flux),
+        VtkArray::vectors("gradient_nodal_k_per_m", &nodal_gradient),
+    ];
+    point.extend(extra_points.iter().map(|(n, v)| VtkArray::scalars(n, v)));
+    let mut cell = vec![
+        VtkArray::vectors("heat_flux_w_per_m2", &cell_flux),
+        VtkArray::vectors("gradient_k_per_m", &cell_gradient),
+        VtkArray {
+            name: "material",
+            components: 1,
+            values: VtkValues::I32(&material),
+        },
+    ];
+    cell.extend(extra_cells.iter().map(|(n, v)| VtkArray::scalars(n, v)));
+    triangles_vtu(mesh, point, cell, options)
 }
 
-/// The mesh as a VTK XML unstructured grid (`.vtu`), with cell data `material` (Int32 id),
-/// `quality_min_angle_deg` (smallest angle of each triangle, degrees) and `area_m2` (signed
-/// area, m²; positive for the counter-clockwise triangles the mesher makes).
+/// The mesh as a VTK XML unstructured grid (`.vtu`), uncompressed, with cell data `material`
+/// (Int32 id), `quality_min_angle_deg` (smallest angle of each triangle, degrees) and
+/// `area_m2` (signed area, m²; positive for the counter-clockwise triangles the mesher makes).
 pub fn mesh_vtu(mesh: &Mesh) -> Result<Vec<u8>> {
+    mesh_vtu_with(mesh, &VtkOptions::default())
+}
+
+/// [`mesh_vtu`] with the encoding `options`.
+pub fn mesh_vtu_with(mesh: &Mesh, options: &VtkOptions) -> Result<Vec<u8>> {
     check_mesh(mesh)?;
     let t = mesh.triangles.len();
     let angles: Vec<f64> = (0..t).map(|i| min_angle_deg(mesh, i)).collect();
     let areas: Vec<f64> = (0..t).map(|i| mesh.triangle_area(i)).collect();
-    let data = Attributes {
-        point: vec![],
-        cell: vec![
-            Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
-            Attribute::scalars("quality_min_angle_deg", 1).with_data(angles),
-            Attribute::scalars("area_m2", 1).with_data(areas),
-        ],
-    };
-    unstructured_vtu(mesh, "mesh", data)
+    let material = material_ids(mesh)?;
+    let cell = vec![
+        VtkArray {
+            name: "material",
+            components: 1,
+            values: VtkValues::I32(&material),
+        },
+        VtkArray::scalars("quality_min_angle_deg", &angles),
+        VtkArray::scalars("area_m2", &areas),
+    ];
+    triangles_vtu(mesh, vec![], cell, options)
 }

@@ -213,3 +213,24 @@ impl<S: LinearSolver> Factorized<S> {
         })
     }
 }
+
+/// The reduced system of `system` as [`Factorized::solve`] builds it, without a solver: the
+/// free nodes in reduced order, `K_ff` (CSR, both triangles) and the lifted right-hand side
+/// `f_f − K_fc·T_c` of the system's own load and Dirichlet values (for `solve --export-matrix`).
+pub fn reduced_system(system: &System) -> Result<(Vec<usize>, CsMat<f64>, Vec<f64>)> {
+    let partition = Partition::of(&system.fixed);
+    let (k_ff, k_fc) = partition.split(&system.matrix)?;
+    let tc: Vec<f64> = partition
+        .fixed_nodes
+        .iter()
+        .filter_map(|&i| system.fixed[i])
+        .collect();
+    let lift = mat_vec(&k_fc, &tc)?;
+    let rhs = partition
+        .free
+        .iter()
+        .zip(&lift)
+        .map(|(&i, l)| system.load[i] - l)
+        .collect();
+    Ok((partition.free, k_ff, rhs))
+}
