@@ -155,3 +155,47 @@ fn mesh_consistency_names_the_offending_item() {
     mesh.boundary_edges[0].boundary = Some(4);
     assert!(message(&mesh).contains("boundary edge 0 has boundary id 4"));
 }
+
+#[test]
+fn morton_renumbered_and_plain_assembly_give_the_same_temperatures() {
+    let tags = [Some(0), Some(1), Some(2), None];
+    let section = rectangle_section(
+        1.5,
+        0.7,
+        &[("a", 2.0, 100.0), ("b", 0.3, 0.0)],
+        &[
+            (
+                "air",
+                BoundaryKind::Convection {
+                    h: 8.0,
+                    ambient: 15.0,
+                },
+            ),
+            ("base", BoundaryKind::Fixed { temperature: 60.0 }),
+            ("sun", BoundaryKind::Flux { flux: 300.0 }),
+        ],
+        tags,
+    );
+    // Row-by-row numbering (plain) against the same mesh in Morton order.
+    let plain = rectangle_mesh(1.5, 0.7, 23, 11, tags, |c| usize::from(c[0] > 0.6));
+    let mut renumbered = plain.clone();
+    let new_of = crate::mesh::spatial::renumber(crate::mesh::spatial::Numbered {
+        nodes: &mut renumbered.nodes,
+        triangles: &mut renumbered.triangles,
+        material: &mut renumbered.material,
+        boundary_edges: &mut renumbered.boundary_edges,
+    });
+    assert_ne!(new_of, (0..plain.nodes.len()).collect::<Vec<_>>());
+    let t_plain = crate::solve::solve_system(&assemble(&section, &plain).unwrap()).unwrap();
+    let t_new = crate::solve::solve_system(&assemble(&section, &renumbered).unwrap()).unwrap();
+    // Matched by coordinates: the node that moved to new_of[i] sits where node i sat.
+    for (i, &p) in plain.nodes.iter().enumerate() {
+        let j = new_of[i];
+        assert_eq!(renumbered.nodes[j], p);
+        let (a, b) = (t_plain.temperature[i], t_new.temperature[j]);
+        assert!(
+            (a - b).abs() <= 1e-12 * a.abs().max(1.0),
+            "node {i}: {a} vs {b}"
+        );
+    }
+}

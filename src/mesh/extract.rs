@@ -3,7 +3,7 @@
 
 use super::classify::{Classified, NO_PIECE};
 use super::quality::{self, SmallAngle};
-use super::{BoundaryEdge, Cdt, Mesh};
+use super::{BoundaryEdge, Cdt, Mesh, spatial};
 use crate::error::{Error, Result};
 use crate::geom::Point;
 use crate::geometry::{Pslg, Zone};
@@ -106,7 +106,17 @@ pub(super) fn extract(
             .ok_or_else(|| Error::run("internal: kept face without zone"))?;
         material.push(pslg.zone_material[zone]);
     }
-    let boundary_edges = boundary_edges(pslg, cl, &kept, &node_of)?;
+    let mut boundary_edges = boundary_edges(pslg, cl, &kept, &node_of)?;
+    let (mut nodes, mut node_of) = (nodes, node_of);
+    let new_of = spatial::renumber(spatial::Numbered {
+        nodes: &mut nodes,
+        triangles: &mut triangles,
+        material: &mut material,
+        boundary_edges: &mut boundary_edges,
+    });
+    for n in node_of.iter_mut().filter(|n| **n != usize::MAX) {
+        *n = new_of[*n];
+    }
     let mut small_nodes = vec![false; nodes.len()];
     for &(pv, _, _) in small {
         let n = node_of[to_cdt[pv]];

@@ -36,6 +36,16 @@ pub struct Mesher<'a> {
     estimate: f64,
 }
 
+/// Points in Morton order (ties by their position in `pts`): each insertion starts its walk
+/// next to the previous one.
+fn in_morton_order(pts: Vec<Point2<f64>>) -> Vec<Point2<f64>> {
+    let as_points: Vec<Point> = pts.iter().map(|&p| to_point(p)).collect();
+    super::spatial::morton_order(&as_points)
+        .into_iter()
+        .map(|i| pts[i])
+        .collect()
+}
+
 fn to_point(p: Point2<f64>) -> Point {
     [p.x, p.y]
 }
@@ -329,7 +339,7 @@ impl<'a> Mesher<'a> {
             ins.size.append(&mut ins.angle);
             pass += 1;
             self.check_inserts(pass, ins.size.len())?;
-            for c in ins.size {
+            for c in in_morton_order(ins.size) {
                 insert(&mut self.cdt, c)?;
             }
         }
@@ -347,7 +357,7 @@ impl<'a> Mesher<'a> {
                     if self.classified.face_zone[g.index()].is_some())
             })
             .collect();
-        for q in inside {
+        for q in in_morton_order(inside) {
             insert(&mut self.cdt, q)?;
         }
         Ok(())

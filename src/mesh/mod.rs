@@ -11,6 +11,7 @@ mod classify;
 mod extract;
 mod mesher;
 mod quality;
+pub mod spatial;
 
 pub use mesher::Mesher;
 
