@@ -101,6 +101,10 @@ struct SolveArgs {
     /// target instead of writing the best mesh's results with a warning.
     #[arg(long, requires = "target_error")]
     strict: bool,
+    /// Also write a field.vtu into each load case's directory (every case's temperatures are
+    /// in DIR/field.vtu as `temperature_c:CASE` either way).
+    #[arg(long)]
+    case_fields: bool,
 }
 
 #[derive(Args)]
@@ -251,7 +255,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
             "--strict: adaptive refinement stopped above the target error {t}, no results written (see the warning)"
         )));
     }
-    let written = out.commit(&output::solve_files(&solved)?)?;
+    let written = out.commit(&output::solve_files_with(&solved, a.case_fields)?)?;
     con.result(&wrote(written.len(), &a.out));
     con.caution();
     Ok(())

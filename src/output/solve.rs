@@ -6,14 +6,23 @@ use crate::run::Solved;
 
 /// All files of a solve, in memory, ready to be committed atomically to a directory.
 pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
+    solve_files_with(sv, false)
+}
+
+/// [`solve_files`]; with `case_fields`, a `field.vtu` in each load case's directory too.
+pub fn solve_files_with(sv: &Solved, case_fields: bool) -> Result<OutputSet> {
     let s = sv.section();
     let mut set = OutputSet::new();
+    let case_arrays = output::case_point_arrays(sv);
+    let case_points: Vec<(&str, &[f64])> =
+        case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
     set.add(
         "field.vtu",
-        output::field_vtu_with(
+        output::field_vtu_with_points(
             &sv.mesh,
             &sv.results,
             &[("error_indicator", &sv.error_estimate.indicator)],
+            &case_points,
         )?,
     );
     set.add("nodes.csv", output::nodes_csv(&sv.mesh, &sv.results)?);
@@ -22,6 +31,7 @@ pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
     for l in &sv.results.lines {
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
+    output::add_case_files(&mut set, sv, case_fields)?;
     let model = s.resolved_json();
     let files = set.manifest();
     set.add_manifest_file(

@@ -107,7 +107,21 @@ pub fn field_vtu_with(
     results: &Results,
     extra_cells: &[(&str, &[f64])],
 ) -> Result<Vec<u8>> {
+    field_vtu_with_points(mesh, results, extra_cells, &[])
+}
+
+/// [`field_vtu_with`] with further scalar point arrays (name, one value per node) after the
+/// standard ones, e.g. `temperature_c:CASE` of each load case (°C).
+pub fn field_vtu_with_points(
+    mesh: &Mesh,
+    results: &Results,
+    extra_cells: &[(&str, &[f64])],
+    extra_points: &[(&str, &[f64])],
+) -> Result<Vec<u8>> {
     check_mesh(mesh)?;
+    for (name, values) in extra_points {
+        check_len(name, values.len(), mesh.nodes.len(), "node")?;
+    }
     check_results(mesh, results)?;
     for (name, values) in extra_cells {
         if values.len() != mesh.triangles.len() {
@@ -130,6 +144,10 @@ pub fn field_vtu_with(
             Attribute::scalars("material", 1).with_data(material_ids(mesh)?),
         ],
     };
+    for (name, values) in extra_points {
+        data.point
+            .push(Attribute::scalars(*name, 1).with_data(values.to_vec()));
+    }
     for (name, values) in extra_cells {
         data.cell
             .push(Attribute::scalars(*name, 1).with_data(values.to_vec()));
