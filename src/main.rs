@@ -117,6 +117,10 @@ struct SolveArgs {
     /// directory, its own result set, for comparisons with other solvers.
     #[arg(long, value_name = "DIR")]
     export_matrix: Option<PathBuf>,
+    /// Also write a field.vtu into each load case's directory (every case's temperatures are
+    /// in DIR/field.vtu as `temperature_c:CASE` either way).
+    #[arg(long)]
+    case_fields: bool,
 }
 
 #[derive(Args)]
@@ -301,6 +305,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
             compress: a.vtk_compress,
         },
         nodes_csv: !a.no_nodes_csv,
+        case_fields: a.case_fields,
     };
     let set = output::solve_files_with(&solved, &files)?;
     let matrix = match &matrix_out {

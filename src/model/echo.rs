@@ -67,6 +67,7 @@ impl Section {
                     samples: l.samples,
                 })
                 .collect(),
+            cases: super::cases::case_files(self),
         }
     }
 

@@ -39,6 +39,9 @@ pub struct ModelFile {
     /// `[[lines]]`: sampled lines.
     #[serde(default)]
     pub lines: Vec<LineFile>,
+    /// `[[cases]]`: load cases, each overriding values of the base model.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub cases: Vec<super::CaseFile>,
 }
 
 /// `[mesh]` as written.

@@ -1,10 +1,11 @@
 //! Model stage: the validated types — a [`Section`] of rings with named boundary segments,
-//! materials with ids, a boundary table, probes and lines. A `Section` is built only by
+//! materials with ids, a boundary table, probes, lines and load cases. A `Section` is built only by
 //! [`validate`], which turns a [`ModelFile`] (the serde mirror of the TOML, in `file`) into one
 //! or a precise error naming the offending item.
 
 use serde::Serialize;
 
+mod cases;
 mod echo;
 mod file;
 mod ring;
@@ -14,6 +15,10 @@ mod validate;
 #[cfg(test)]
 mod tests;
 
+pub use cases::{
+    Case, CaseBoundary, CaseBoundaryFile, CaseFile, CaseMaterial, CaseMaterialFile, MAX_CASES,
+    RESERVED_CASE_NAMES,
+};
 pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
     load, parse,
@@ -239,6 +244,9 @@ pub struct Section {
     pub probes: Vec<Probe>,
     /// Lines in file order.
     pub lines: Vec<Line>,
+    /// Load cases in file order (`[[cases]]`); [`Section::case_section`] gives the section of
+    /// one.
+    pub cases: Vec<Case>,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

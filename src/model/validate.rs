@@ -1,7 +1,9 @@
 //! Validation: a parsed [`ModelFile`] becomes a [`Section`] through a fixed sequence of named
-//! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines), or an
+//! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
+//! cases), or an
 //! error naming the offending item.
 
+use super::cases::validate_cases;
 use super::ring::ring_circle_segments;
 use super::ring::{RingContext, build_ring, raw_area};
 use super::suggest::{did_you_mean, known_list, suggest};
@@ -31,6 +33,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     check_written_points(file, mesh.max_area)?;
     let probes = validate_probes(file)?;
     let lines = validate_lines(file)?;
+    let cases = validate_cases(file, &materials, &boundaries)?;
     let ctx = RingContext {
         boundaries: &file.boundaries,
         boundary_ids: &boundary_ids,
@@ -53,6 +56,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         boundaries,
         probes,
         lines,
+        cases,
         warnings,
         validated: Validated,
     })
@@ -60,7 +64,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
 
 /// A name of 1 to [`MAX_NAME_CHARS`] letters, digits, '_' and '-' (so no control characters,
 /// and safe as a file name); `label` names the item in the error.
-fn check_name(label: &str, name: &str, what: &str) -> Result<()> {
+pub(super) fn check_name(label: &str, name: &str, what: &str) -> Result<()> {
     if name.is_empty() {
         return Err(Error::input(format!(
             "{label}: a {what} name may not be empty"
@@ -86,7 +90,7 @@ fn check_name(label: &str, name: &str, what: &str) -> Result<()> {
 /// Names of one table must differ ignoring case (line names become file names, and a
 /// case-insensitive file system would make `mid` and `MID` one file). `seen` maps the
 /// lower-case name to the label of its first use.
-fn check_case_unique(
+pub(super) fn check_case_unique(
     label: &str,
     name: &str,
     what: &str,
@@ -123,7 +127,7 @@ fn validate_title(file: &ModelFile) -> Result<String> {
 }
 
 /// A finite number with |v| at most `max`; `what` names the key and its unit.
-fn check_bounded(v: f64, max: f64, what: &str, unit: &str) -> Result<()> {
+pub(super) fn check_bounded(v: f64, max: f64, what: &str, unit: &str) -> Result<()> {
     if !v.is_finite() {
         return Err(Error::input(format!("{what} = {v} is not a finite number")));
     }
@@ -131,6 +135,28 @@ fn check_bounded(v: f64, max: f64, what: &str, unit: &str) -> Result<()> {
         return Err(Error::input(format!(
             "{what} = {v:e} {unit} is outside the accepted range |{}| <= {max:e} {unit}",
             what.rsplit(' ').next().unwrap_or(what)
+        )));
+    }
+    Ok(())
+}
+
+/// A conductivity, W/(m·K), finite in [[`MIN_CONDUCTIVITY`], [`MAX_CONDUCTIVITY`]]; `label`
+/// names the material.
+pub(super) fn check_conductivity(label: &str, k: f64) -> Result<()> {
+    if !k.is_finite() || !(MIN_CONDUCTIVITY..=MAX_CONDUCTIVITY).contains(&k) {
+        return Err(Error::input(format!(
+            "{label}: conductivity = {k:e} W/(m·K) must be a finite number in [{MIN_CONDUCTIVITY:e}, {MAX_CONDUCTIVITY:e}]"
+        )));
+    }
+    Ok(())
+}
+
+/// A film coefficient, W/(m²·K): positive, finite, at most [`MAX_FILM_COEFFICIENT`]; `label`
+/// names the boundary.
+pub(super) fn check_film_coefficient(label: &str, h: f64) -> Result<()> {
+    if !h.is_finite() || h <= 0.0 || h > MAX_FILM_COEFFICIENT {
+        return Err(Error::input(format!(
+            "{label}: h = {h} W/(m²·K) must be a positive finite number, at most {MAX_FILM_COEFFICIENT:e} (for a larger one, fix the temperature)"
         )));
     }
     Ok(())
@@ -154,7 +180,7 @@ pub(super) fn finite_point(p: [f64; 2], what: &str) -> Result<()> {
 }
 
 /// A finite temperature not below absolute zero and at most [`MAX_ABS_TEMPERATURE_C`].
-fn check_temperature(v: f64, what: &str) -> Result<()> {
+pub(super) fn check_temperature(v: f64, what: &str) -> Result<()> {
     check_bounded(v, MAX_ABS_TEMPERATURE_C, what, "°C")?;
     if v < ABSOLUTE_ZERO_C {
         return Err(Error::input(format!(
@@ -178,12 +204,7 @@ fn validate_materials(file: &ModelFile) -> Result<(Vec<Material>, BTreeMap<Strin
         let label = format!("materials.{}", printable(name));
         check_name(&label, name, "material")?;
         check_case_unique(&label, name, "material", &mut seen)?;
-        let k = m.conductivity;
-        if !k.is_finite() || !(MIN_CONDUCTIVITY..=MAX_CONDUCTIVITY).contains(&k) {
-            return Err(Error::input(format!(
-                "materials.{name}: conductivity = {k:e} W/(m·K) must be a finite number in [{MIN_CONDUCTIVITY:e}, {MAX_CONDUCTIVITY:e}]"
-            )));
-        }
+        check_conductivity(&format!("materials.{name}"), m.conductivity)?;
         let q = m.heat_source.unwrap_or(0.0);
         check_bounded(
             q,
@@ -309,11 +330,7 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             check_kind_keys(name, b, &["h", "ambient"])?;
             let h = require(name, "h", b.h, "convection")?;
             let a = require(name, "ambient", b.ambient, "convection")?;
-            if !h.is_finite() || h <= 0.0 || h > MAX_FILM_COEFFICIENT {
-                return Err(Error::input(format!(
-                    "boundaries.{name}: h = {h} W/(m²·K) must be a positive finite number, at most {MAX_FILM_COEFFICIENT:e} (for a larger one, fix the temperature)"
-                )));
-            }
+            check_film_coefficient(&format!("boundaries.{name}"), h)?;
             check_temperature(a, &format!("boundaries.{name}: ambient"))?;
             BoundaryKind::Convection { h, ambient: a }
         }

@@ -37,6 +37,7 @@
 //!
 //! Node and triangle numbers in every file are 0-based, matching VTK point and cell ids.
 
+mod cases;
 mod converge;
 mod crosscheck;
 mod csv;
@@ -56,6 +57,7 @@ mod tests_nested;
 mod verify;
 mod vtk;
 
+pub use cases::*;
 pub use converge::*;
 pub use crosscheck::*;
 pub use csv::*;

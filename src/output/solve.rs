@@ -11,6 +11,8 @@ pub struct SolveFileOptions {
     pub vtk: VtkOptions,
     /// Write nodes.csv (false with `--no-nodes-csv`; field.vtu holds the same points).
     pub nodes_csv: bool,
+    /// Write a field.vtu into each load case's directory too (`--case-fields`).
+    pub case_fields: bool,
 }
 
 impl Default for SolveFileOptions {
@@ -18,6 +20,7 @@ impl Default for SolveFileOptions {
         SolveFileOptions {
             vtk: VtkOptions::default(),
             nodes_csv: true,
+            case_fields: false,
         }
     }
 }
@@ -31,13 +34,16 @@ pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
 pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<OutputSet> {
     let s = sv.section();
     let mut set = OutputSet::new();
+    let case_arrays = output::case_point_arrays(sv);
+    let case_points: Vec<(&str, &[f64])> =
+        case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
     set.add(
         "field.vtu",
         output::field_vtu_arrays(
             &sv.mesh,
             &sv.results,
             &[("error_indicator", &sv.error_estimate.indicator)],
-            &[],
+            &case_points,
             &options.vtk,
         )?,
     );
@@ -49,6 +55,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
     for l in &sv.results.lines {
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
+    output::add_case_files(&mut set, sv, options)?;
     let model = s.resolved_json();
     let files = set.manifest();
     set.add_manifest_file(

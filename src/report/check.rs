@@ -146,6 +146,7 @@ pub fn check_report(p: &Prepared, checked: &ModelCheck) -> String {
             l.name, l.from[0], l.from[1], l.to[0], l.to[1], l.samples
         );
     }
+    cases_lines(&mut o, s);
     let _ = writeln!(
         o,
         "segment set: {} vertices, {} constraint segments; unrefined triangulation has {} triangles",
@@ -154,6 +155,34 @@ pub fn check_report(p: &Prepared, checked: &ModelCheck) -> String {
         mesh.stats.triangles
     );
     o
+}
+
+/// One line per load case: the values it sets and whether it reuses the base factorisation.
+fn cases_lines(o: &mut String, s: &Section) {
+    for (i, c) in s.cases.iter().enumerate() {
+        let mut parts: Vec<String> = c
+            .boundaries
+            .iter()
+            .map(|b| format!("{}: {}", s.boundaries[b.id].name, kind_line(&b.kind)))
+            .collect();
+        parts.extend(c.materials.iter().map(|m| {
+            format!(
+                "{}: k = {} W/(m·K), Q = {} W/m³",
+                s.materials[m.id].name, m.conductivity, m.heat_source
+            )
+        }));
+        let how = if s.case_changes_matrix(i) {
+            "refactorises (h or a conductivity changes)"
+        } else {
+            "reuses the base factorisation"
+        };
+        let what = if parts.is_empty() {
+            "no changes".to_string()
+        } else {
+            parts.join("; ")
+        };
+        let _ = writeln!(o, "case {}: {what}; {how}", c.name);
+    }
 }
 
 fn small_angle_lines(o: &mut String, s: &Section, m: &Mesh) {

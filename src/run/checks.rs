@@ -261,13 +261,20 @@ fn maximum_principle(section: &Section, used: &[usize], r: &Results) -> Check {
     }
 }
 
-/// Error for a failed self-check (exit code 1).
+/// Error for a failed self-check of the base case or a load case (exit code 1).
 pub fn failed_checks_error(solved: &Solved) -> Option<Error> {
-    let failed: Vec<String> = solved
-        .checks
+    let base = solved.checks.iter().map(|c| (None, c));
+    let cases = solved
+        .cases
         .iter()
-        .filter(|c| c.status() == CheckStatus::Failed)
-        .map(|c| format!("{}: {}", c.name, c.detail))
+        .flat_map(|k| k.checks.iter().map(move |c| (Some(&k.name), c)));
+    let failed: Vec<String> = base
+        .chain(cases)
+        .filter(|(_, c)| c.status() == CheckStatus::Failed)
+        .map(|(case, c)| match case {
+            Some(name) => format!("case {name}: {}: {}", c.name, c.detail),
+            None => format!("{}: {}", c.name, c.detail),
+        })
         .collect();
     if failed.is_empty() {
         None

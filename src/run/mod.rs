@@ -82,6 +82,8 @@ pub struct Timings {
     pub solve_s: f64,
     /// Post-processing and error estimate.
     pub post_s: f64,
+    /// Load cases: assembly of loads (or matrices), solves, post-processing, self-checks.
+    pub cases_s: f64,
 }
 
 /// A solved section with everything derived from it.
@@ -101,6 +103,8 @@ pub struct Solved {
     pub error_estimate: ErrorEstimate,
     /// Adaptive refinement history (empty for a plain solve).
     pub adaptivity: Vec<Cycle>,
+    /// The model's load cases, solved on the same mesh (empty without `[[cases]]`).
+    pub cases: Vec<CaseSolved>,
     /// Numerical self-checks.
     pub checks: Vec<Check>,
     /// Warnings of every stage and of self-checks of severity warning, each once.
@@ -114,11 +118,13 @@ impl Solved {
     pub fn section(&self) -> &Section {
         &self.prepared.section
     }
-    /// True when no check failed (checks of severity warning only warn).
+    /// True when no check failed, of the base case or of a load case (checks of severity
+    /// warning only warn).
     pub fn checks_passed(&self) -> bool {
         self.checks
             .iter()
             .all(|c| c.status() != CheckStatus::Failed)
+            && self.cases.iter().all(CaseSolved::checks_passed)
     }
 }
 
@@ -152,7 +158,8 @@ pub fn check_model(prepared: &Prepared, opts: &MeshOptions) -> Result<ModelCheck
     })
 }
 
-/// Mesh, assemble, solve and post-process a prepared model, and run the self-checks.
+/// Mesh, assemble, solve and post-process a prepared model, and run the self-checks; then the
+/// model's load cases ([`cases`]).
 pub fn solve(prepared: Prepared, opts: &MeshOptions) -> Result<Solved> {
     solve_with(prepared, opts, None)
 }
@@ -170,12 +177,15 @@ pub fn solve_with(
 }
 
 /// Assemble, solve and post-process a prepared model on a given mesh of it, and run the
-/// self-checks. `mesh_s` is the meshing time to report.
+/// self-checks; then solve its load cases on the same mesh ([`cases::solve_cases`], reusing
+/// the base factorisation where the matrix is unchanged). `mesh_s` is the meshing time to
+/// report.
 pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved> {
     let t1 = Instant::now();
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
-    let solution = solve::solve_system(&system)?;
+    let factor = solve::Factorized::new(&system)?;
+    let solution = factor.solve(&system.load, &system.fixed)?;
     let t3 = Instant::now();
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;
@@ -192,6 +202,11 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             warnings.push(format!("self-check {}: {}", c.name, c.detail));
         }
     }
+    let t5 = Instant::now();
+    let cases = cases::solve_cases(&prepared.section, &mesh, &system, &factor)?;
+    for c in &cases {
+        warnings.extend(c.warnings.iter().map(|w| format!("case {}: {w}", c.name)));
+    }
     Ok(Solved {
         prepared,
         mesh,
@@ -200,6 +215,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
         results,
         error_estimate,
         adaptivity: Vec::new(),
+        cases,
         checks,
         warnings,
         timings: Timings {
@@ -207,6 +223,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             assemble_s: (t2 - t1).as_secs_f64(),
             solve_s: (t3 - t2).as_secs_f64(),
             post_s: (t4 - t3).as_secs_f64(),
+            cases_s: t5.elapsed().as_secs_f64(),
         },
     })
 }
@@ -226,5 +243,7 @@ pub struct Cycle {
     pub energy_norm_error: f64,
 }
 
+pub mod cases;
 mod checks;
+pub use cases::{CaseSolved, Factorisation};
 pub use checks::*;

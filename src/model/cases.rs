@@ -1,0 +1,341 @@
+//! Load cases (`[[cases]]`): the serde mirrors of the TOML, their validation into [`Case`]s and
+//! the section of one case ([`Section::case_section`]).
+//!
+//! A case overrides values of existing boundaries (only the value keys of the boundary's own
+//! kind) and materials (`heat_source`, `conductivity`); everything else is the base model's.
+
+use super::suggest::{did_you_mean, known_list};
+use super::validate::{
+    check_bounded, check_case_unique, check_conductivity, check_film_coefficient, check_name,
+    check_temperature,
+};
+use super::{
+    Boundary, BoundaryKind, MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, Material, ModelFile, Section,
+};
+use crate::error::{Error, Result, printable};
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// Most load cases in one model file.
+pub const MAX_CASES: usize = 1000;
+
+/// Stems of the files of a result set beside the case directories: a case may not take one
+/// (ignoring case), so that `DIR/CASE/` never shares its name with the stem of a file of the
+/// set (`cases.csv`, `field.vtu`, …). Line files (`line-NAME.csv`) are refused by their stem too.
+pub const RESERVED_CASE_NAMES: [&str; 6] =
+    ["boundaries", "cases", "field", "nodes", "probes", "summary"];
+
+/// `[[cases]]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CaseFile {
+    /// Case name (a directory name of the result set).
+    pub name: String,
+    /// `[cases.boundaries.NAME]`: new values of existing boundaries.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub boundaries: BTreeMap<String, CaseBoundaryFile>,
+    /// `[cases.materials.NAME]`: new values of existing materials.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub materials: BTreeMap<String, CaseMaterialFile>,
+}
+
+/// `[cases.boundaries.NAME]` as written: the value keys of the boundary kinds.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CaseBoundaryFile {
+    /// Fixed temperature, °C (kind fixed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub temperature: Option<f64>,
+    /// Film coefficient, W/(m²·K) (kind convection).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub h: Option<f64>,
+    /// Ambient temperature, °C (kind convection).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ambient: Option<f64>,
+    /// Imposed flux, W/m², positive into the section (kind flux).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub flux: Option<f64>,
+}
+
+/// `[cases.materials.NAME]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct CaseMaterialFile {
+    /// W/(m·K)
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub conductivity: Option<f64>,
+    /// W/m³
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub heat_source: Option<f64>,
+}
+
+/// A boundary's condition in one case (same kind as the base, values resolved).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct CaseBoundary {
+    /// Boundary id.
+    pub id: usize,
+    /// The condition in this case.
+    pub kind: BoundaryKind,
+}
+
+/// A material's values in one case (resolved: base values where the case gives none).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct CaseMaterial {
+    /// Material id.
+    pub id: usize,
+    /// W/(m·K)
+    pub conductivity: f64,
+    /// W/m³
+    pub heat_source: f64,
+}
+
+/// A validated load case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Case {
+    /// Case name.
+    pub name: String,
+    /// Overridden boundaries, by id.
+    pub boundaries: Vec<CaseBoundary>,
+    /// Overridden materials, by id.
+    pub materials: Vec<CaseMaterial>,
+}
+
+impl Section {
+    /// The section of case `i` of [`Section::cases`]: the base section with the case's values
+    /// and no cases of its own. `None` when there is no such case.
+    pub fn case_section(&self, i: usize) -> Option<Section> {
+        let case = self.cases.get(i)?;
+        let mut s = self.clone();
+        s.cases.clear();
+        for b in &case.boundaries {
+            s.boundaries[b.id].kind = b.kind;
+        }
+        for m in &case.materials {
+            s.materials[m.id].conductivity = m.conductivity;
+            s.materials[m.id].heat_source = m.heat_source;
+        }
+        Some(s)
+    }
+
+    /// True when case `i` changes the matrix (a film coefficient or a conductivity differs
+    /// from the base), so that it needs a factorisation of its own; false when only its load
+    /// differs (fixed temperatures, ambients, fluxes, sources).
+    pub fn case_changes_matrix(&self, i: usize) -> bool {
+        let Some(case) = self.cases.get(i) else {
+            return false;
+        };
+        let h_changes = case.boundaries.iter().any(|b| {
+            matches!(
+                (b.kind, self.boundaries[b.id].kind),
+                (BoundaryKind::Convection { h, .. }, BoundaryKind::Convection { h: h0, .. }) if h != h0
+            )
+        });
+        let k_changes = case
+            .materials
+            .iter()
+            .any(|m| m.conductivity != self.materials[m.id].conductivity);
+        h_changes || k_changes
+    }
+}
+
+/// The `[[cases]]` of a model file, validated against its boundaries and materials.
+///
+/// Check point for nonlinear models: once a boundary kind or material law makes the model
+/// nonlinear (radiation, k(T)), load cases are refused here (exit 2) until they are solved
+/// case by case; no nonlinear physics exists today.
+pub(super) fn validate_cases(
+    file: &ModelFile,
+    materials: &[Material],
+    boundaries: &[Boundary],
+) -> Result<Vec<Case>> {
+    if file.cases.len() > MAX_CASES {
+        return Err(Error::input(format!(
+            "cases: {} load cases, above the limit of {MAX_CASES}",
+            file.cases.len()
+        )));
+    }
+    let mut seen = BTreeMap::new();
+    let mut cases = Vec::with_capacity(file.cases.len());
+    for (i, c) in file.cases.iter().enumerate() {
+        let label = format!("cases[{i}] \"{}\"", printable(&c.name));
+        check_case_name(&label, &c.name, file, &mut seen)?;
+        let boundaries = c
+            .boundaries
+            .iter()
+            .map(|(name, b)| case_boundary(&label, name, b, boundaries))
+            .collect::<Result<Vec<_>>>()?;
+        let materials = c
+            .materials
+            .iter()
+            .map(|(name, m)| case_material(&label, name, m, materials))
+            .collect::<Result<Vec<_>>>()?;
+        cases.push(Case {
+            name: c.name.clone(),
+            boundaries,
+            materials,
+        });
+    }
+    Ok(cases)
+}
+
+/// A case name: the rules of other names, unique ignoring case, and not the stem of a file of
+/// the result set ([`RESERVED_CASE_NAMES`], `line-NAME` of the model's lines).
+fn check_case_name(
+    label: &str,
+    name: &str,
+    file: &ModelFile,
+    seen: &mut BTreeMap<String, String>,
+) -> Result<()> {
+    check_name(label, name, "case")?;
+    check_case_unique(label, name, "case", seen)?;
+    let lower = name.to_ascii_lowercase();
+    let line_stem = file
+        .lines
+        .iter()
+        .any(|l| format!("line-{}", l.name).to_ascii_lowercase() == lower);
+    if RESERVED_CASE_NAMES.contains(&lower.as_str()) || line_stem {
+        return Err(Error::input(format!(
+            "{label}: the case name is the stem of a file of the result set ({}.csv, .vtu, .json or line-NAME.csv); choose another name",
+            printable(name)
+        )));
+    }
+    Ok(())
+}
+
+/// One `[cases.boundaries.NAME]`: an existing boundary, only its kind's value keys, the ranges
+/// of the base values.
+fn case_boundary(
+    label: &str,
+    name: &str,
+    b: &CaseBoundaryFile,
+    boundaries: &[Boundary],
+) -> Result<CaseBoundary> {
+    let item = format!("{label}: boundaries.{}", printable(name));
+    let Some(id) = boundaries.iter().position(|x| x.name == name) else {
+        let names: Vec<String> = boundaries.iter().map(|x| x.name.clone()).collect();
+        return Err(Error::input(format!(
+            "{item}: no such boundary (a case changes values of the boundaries under [boundaries]; defined: {}){}",
+            known_list(names.iter()),
+            did_you_mean(name, names.iter())
+        )));
+    };
+    let base = boundaries[id].kind;
+    let allowed: &[&str] = match base {
+        BoundaryKind::Fixed { .. } => &["temperature"],
+        BoundaryKind::Insulated => &[],
+        BoundaryKind::Flux { .. } => &["flux"],
+        BoundaryKind::Convection { .. } => &["h", "ambient"],
+    };
+    let present = [
+        ("temperature", b.temperature.is_some()),
+        ("h", b.h.is_some()),
+        ("ambient", b.ambient.is_some()),
+        ("flux", b.flux.is_some()),
+    ];
+    for (key, is) in present {
+        if is && !allowed.contains(&key) {
+            return Err(Error::input(format!(
+                "{item}: key `{key}` does not apply to the boundary's kind \"{}\"{} (a case keeps the kind)",
+                base.name(),
+                if allowed.is_empty() {
+                    " (it takes no values)".to_string()
+                } else {
+                    format!(" (it takes: {})", allowed.join(", "))
+                }
+            )));
+        }
+    }
+    let kind = match base {
+        BoundaryKind::Fixed { temperature } => {
+            let t = b.temperature.unwrap_or(temperature);
+            check_temperature(t, &format!("{item}: temperature"))?;
+            BoundaryKind::Fixed { temperature: t }
+        }
+        BoundaryKind::Insulated => BoundaryKind::Insulated,
+        BoundaryKind::Flux { flux } => {
+            let q = b.flux.unwrap_or(flux);
+            check_bounded(q, MAX_ABS_FLUX, &format!("{item}: flux"), "W/m²")?;
+            BoundaryKind::Flux { flux: q }
+        }
+        BoundaryKind::Convection { h, ambient } => {
+            let h = b.h.unwrap_or(h);
+            let a = b.ambient.unwrap_or(ambient);
+            check_film_coefficient(&item, h)?;
+            check_temperature(a, &format!("{item}: ambient"))?;
+            BoundaryKind::Convection { h, ambient: a }
+        }
+    };
+    Ok(CaseBoundary { id, kind })
+}
+
+/// One `[cases.materials.NAME]`: an existing material, the ranges of the base values.
+fn case_material(
+    label: &str,
+    name: &str,
+    m: &CaseMaterialFile,
+    materials: &[Material],
+) -> Result<CaseMaterial> {
+    let item = format!("{label}: materials.{}", printable(name));
+    let Some(base) = materials.iter().find(|x| x.name == name) else {
+        let names: Vec<String> = materials.iter().map(|x| x.name.clone()).collect();
+        return Err(Error::input(format!(
+            "{item}: no such material (a case changes values of the materials under [materials]; defined: {}){}",
+            known_list(names.iter()),
+            did_you_mean(name, names.iter())
+        )));
+    };
+    let conductivity = m.conductivity.unwrap_or(base.conductivity);
+    check_conductivity(&item, conductivity)?;
+    let heat_source = m.heat_source.unwrap_or(base.heat_source);
+    check_bounded(
+        heat_source,
+        MAX_ABS_HEAT_SOURCE,
+        &format!("{item}: heat_source"),
+        "W/m³",
+    )?;
+    Ok(CaseMaterial {
+        id: base.id,
+        conductivity,
+        heat_source,
+    })
+}
+
+/// The cases as written back in the echo: every value of an overridden boundary or material,
+/// resolved.
+pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
+    section
+        .cases
+        .iter()
+        .map(|c| CaseFile {
+            name: c.name.clone(),
+            boundaries: c
+                .boundaries
+                .iter()
+                .map(|b| {
+                    let mut f = CaseBoundaryFile::default();
+                    match b.kind {
+                        BoundaryKind::Fixed { temperature } => f.temperature = Some(temperature),
+                        BoundaryKind::Insulated => {}
+                        BoundaryKind::Flux { flux } => f.flux = Some(flux),
+                        BoundaryKind::Convection { h, ambient } => {
+                            f.h = Some(h);
+                            f.ambient = Some(ambient);
+                        }
+                    }
+                    (section.boundaries[b.id].name.clone(), f)
+                })
+                .collect(),
+            materials: c
+                .materials
+                .iter()
+                .map(|m| {
+                    let f = CaseMaterialFile {
+                        conductivity: Some(m.conductivity),
+                        heat_source: Some(m.heat_source),
+                    };
+                    (section.materials[m.id].name.clone(), f)
+                })
+                .collect(),
+        })
+        .collect()
+}
