@@ -46,3 +46,25 @@ qualified engineer under local codes and licensed practice before use.";
 
 /// The tool's version, as written into summary.json.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
+
+/// Most worker threads `--threads` accepts.
+pub const MAX_THREADS: usize = 1024;
+
+/// Sets the number of worker threads of the global pool (rayon) that the parallel parts use
+/// (sweep variants today). `None` keeps rayon's default: the `RAYON_NUM_THREADS` environment
+/// variable, else one thread per core. Call once, before any parallel work. Results do not
+/// depend on the thread count.
+pub fn set_threads(threads: Option<usize>) -> Result<()> {
+    let Some(n) = threads else {
+        return Ok(());
+    };
+    if n == 0 || n > MAX_THREADS {
+        return Err(Error::input(format!(
+            "--threads {n}: give a number of threads from 1 to {MAX_THREADS}"
+        )));
+    }
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(n)
+        .build_global()
+        .map_err(|e| Error::run(format!("cannot start {n} worker threads: {e}")))
+}

@@ -26,6 +26,10 @@ struct Cli {
     /// instead of exiting with status 1.
     #[arg(long, global = true)]
     wait: bool,
+    /// Worker threads for the parts that run in parallel (sweep variants); default: the
+    /// RAYON_NUM_THREADS environment variable, else one per core. Files do not depend on it.
+    #[arg(long, global = true, value_name = "N")]
+    threads: Option<usize>,
     #[command(subcommand)]
     command: Command,
 }
@@ -275,15 +279,18 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         Some(dir) => Some(matrix_dir(dir, &a.out, &a.model)?),
         None => None,
     };
+    let parse_started = std::time::Instant::now();
     let p = run::prepare(&a.model)?;
+    let parse_s = parse_started.elapsed().as_secs_f64();
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {
         m.lock(con.wait)?;
     }
-    let solved = match a.target_error {
+    let mut solved = match a.target_error {
         Some(e) => adaptive::solve_adaptive(p, &o, e)?,
         None => run::solve(p, &o)?,
     };
+    solved.timings.parse_s = parse_s;
     report_failed_checks(&solved, con);
     con.table(&report::solve_report(&solved));
     con.warnings(&solved.warnings);
@@ -496,6 +503,7 @@ fn sweep_failures(s: &output::SweepSummary) -> xsheat::Result<()> {
 }
 
 fn execute(cli: Cli) -> xsheat::Result<()> {
+    xsheat::set_threads(cli.threads)?;
     let con = Console {
         quiet: cli.quiet,
         wait: cli.wait,

@@ -232,3 +232,42 @@ fn check_command_prints_the_model() {
         assert!(stdout.contains(s), "check output lacks {s}: {stdout}");
     }
 }
+
+/// summary.json's `run` object holds every stage time, their sum and the peak memory.
+#[test]
+fn summary_run_object_has_stage_times_total_and_peak_memory() {
+    let d = tmp();
+    let out = d.path().join("out");
+    solve_into("geometry/buried-pipes.toml", &out);
+    let s: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(out.join("summary.json")).unwrap()).unwrap();
+    let t = &s["run"]["timings_s"];
+    let keys = [
+        "parse_s",
+        "mesh_s",
+        "assemble_s",
+        "solve_s",
+        "post_s",
+        "cases_s",
+        "write_s",
+    ];
+    let mut sum = 0.0;
+    for k in keys {
+        let v = t[k].as_f64().unwrap_or_else(|| panic!("{k} missing: {t}"));
+        assert!(v >= 0.0, "{k} = {v}");
+        sum += v;
+    }
+    assert!(t["parse_s"].as_f64().unwrap() > 0.0, "{t}");
+    assert!(t["write_s"].as_f64().unwrap() > 0.0, "{t}");
+    let total = t["total_s"].as_f64().unwrap();
+    assert!(
+        (total - sum).abs() <= 1e-9 * sum.max(1.0),
+        "{total} vs {sum}"
+    );
+    if cfg!(target_os = "linux") {
+        let rss = s["run"]["peak_rss_mib"]
+            .as_f64()
+            .expect("peak_rss_mib on Linux");
+        assert!(rss > 1.0 && rss < 1e6, "{rss}");
+    }
+}

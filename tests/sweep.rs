@@ -348,3 +348,34 @@ fn bad_plans_exit_2_naming_the_item_and_write_nothing() {
     assert!(r.stderr.contains("--shard \"3/2\""), "{}", r.stderr);
     assert!(!out.exists());
 }
+
+/// A sweep on one worker thread and on two writes the same files (issue 10: results do not
+/// depend on the thread count); `--threads 0` is refused.
+#[test]
+fn one_thread_and_two_threads_give_the_same_files() {
+    let plan = GRID.replace("[-10, 0.0]", "[-10, -5, 0.0]");
+    let (d, plan) = setup(&plan);
+    let p = d.path();
+    let (one, two) = (p.join("one"), p.join("two"));
+    for (n, out) in [("1", &one), ("2", &two)] {
+        let r = sweep(&[
+            &plan,
+            "--threads".as_ref(),
+            n.as_ref(),
+            "--out".as_ref(),
+            out,
+        ]);
+        assert_eq!(r.code, 0, "{}", r.stderr);
+    }
+    assert_eq!(contents(&one), contents(&two));
+    let r = sweep(&[
+        &plan,
+        "--threads".as_ref(),
+        "0".as_ref(),
+        "--out".as_ref(),
+        &p.join("z"),
+    ]);
+    assert_eq!(r.code, 2, "{}", r.stderr);
+    assert!(r.stderr.contains("--threads"), "{}", r.stderr);
+    assert!(!p.join("z").exists());
+}

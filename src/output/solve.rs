@@ -32,6 +32,7 @@ pub fn solve_files(sv: &Solved) -> Result<OutputSet> {
 
 /// [`solve_files`] with the file choices `options`.
 pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<OutputSet> {
+    let started = std::time::Instant::now();
     let s = sv.section();
     let mut set = OutputSet::new();
     let case_arrays = output::case_point_arrays(sv);
@@ -58,6 +59,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
     output::add_case_files(&mut set, sv, options)?;
     let model = s.resolved_json();
     let files = set.manifest();
+    let timings = sv.timings.with_write(started.elapsed().as_secs_f64());
     set.add_manifest_file(
         output::SUMMARY_FILE,
         output::summary_json_with_files(
@@ -69,7 +71,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
                 checks: &sv.checks,
                 error_estimate: &sv.error_estimate,
                 adaptivity: &sv.adaptivity,
-                timings: &sv.timings,
+                timings: &timings,
                 model: &model,
             },
             &files,

@@ -144,15 +144,20 @@ struct CheckOut<'a> {
 
 #[derive(Serialize)]
 struct TimingsOut {
+    parse_s: f64,
     mesh_s: f64,
     assemble_s: f64,
     solve_s: f64,
     post_s: f64,
+    cases_s: f64,
+    write_s: f64,
+    total_s: f64,
 }
 
 #[derive(Serialize)]
 struct RunOut {
-    timings: TimingsOut,
+    timings_s: TimingsOut,
+    peak_rss_mib: Option<f64>,
     note: &'static str,
 }
 
@@ -296,12 +301,17 @@ fn checks(c: &[Check]) -> Vec<CheckOut<'_>> {
 
 fn run_out(t: &Timings) -> RunOut {
     RunOut {
-        timings: TimingsOut {
+        timings_s: TimingsOut {
+            parse_s: t.parse_s,
             mesh_s: t.mesh_s,
             assemble_s: t.assemble_s,
             solve_s: t.solve_s,
             post_s: t.post_s,
+            cases_s: t.cases_s,
+            write_s: t.write_s,
+            total_s: t.total_s,
         },
+        peak_rss_mib: t.peak_rss_mib,
         note: "the only part of this file that may change from run to run",
     }
 }

@@ -74,6 +74,9 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
 /// Wall-clock time per stage, seconds.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Timings {
+    /// Reading and validating the model and building its segment set (set by the caller that
+    /// read the file; 0 when the model came from memory).
+    pub parse_s: f64,
     /// Meshing.
     pub mesh_s: f64,
     /// Assembly.
@@ -84,6 +87,35 @@ pub struct Timings {
     pub post_s: f64,
     /// Load cases: assembly of loads (or matrices), solves, post-processing, self-checks.
     pub cases_s: f64,
+    /// Encoding of the result files other than summary.json (measured before summary.json
+    /// itself is encoded; the files are flushed and switched in after it).
+    pub write_s: f64,
+    /// Sum of the stages above.
+    pub total_s: f64,
+    /// Peak resident set size of the process (VmHWM) when summary.json is encoded, MiB;
+    /// `None` where unavailable.
+    pub peak_rss_mib: Option<f64>,
+}
+
+impl Timings {
+    /// These timings with the encoding time `write_s`, the total and the peak RSS filled in.
+    pub fn with_write(&self, write_s: f64) -> Timings {
+        let mut t = self.clone();
+        t.write_s = write_s;
+        t.total_s =
+            t.parse_s + t.mesh_s + t.assemble_s + t.solve_s + t.post_s + t.cases_s + t.write_s;
+        t.peak_rss_mib = peak_rss_mib();
+        t
+    }
+}
+
+/// Peak resident set size of this process (VmHWM of /proc/self/status), MiB; `None` where
+/// the file or the line is missing (not Linux).
+pub fn peak_rss_mib() -> Option<f64> {
+    let s = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = s.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kib: f64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kib / 1024.0)
 }
 
 /// A solved section with everything derived from it.
@@ -224,6 +256,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             solve_s: (t3 - t2).as_secs_f64(),
             post_s: (t4 - t3).as_secs_f64(),
             cases_s: t5.elapsed().as_secs_f64(),
+            ..Timings::default()
         },
     })
 }
