@@ -2,15 +2,15 @@
 //! film term of every convection edge), the load vector and Dirichlet values of a
 //! [`LoadCase`], and the sparse product used for residuals.
 //!
-//! Assembly is a single pass over triangles and edges (triplets, summed in a fixed order), so
-//! results are deterministic.
+//! The matrix is assembled straight into CSR (`pattern.rs`): sums in triangle order, then
+//! boundary-edge order, whatever the thread count, and symmetric bit for bit.
 
 use super::checks::{check_load_case, check_mesh};
 use super::element::{Conductivity, TriangleGeometry};
 use crate::error::{Error, Result};
 use crate::mesh::{BoundaryEdge, Mesh};
 use crate::model::{BoundaryKind, Section};
-use sprs::{CsMat, TriMat};
+use sprs::CsMat;
 
 /// The values of one load case. Boundary kinds and film coefficients belong to the matrix and
 /// are taken from the section; a load case only supplies the numbers that enter the right-hand
@@ -91,42 +91,16 @@ pub fn assemble_load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Result<
     Ok(load(section, mesh, case))
 }
 
-/// The matrix of a checked mesh: triangle conduction, then edge film terms, summed by sprs.
+/// The matrix of a checked mesh: triangle conduction, then edge film terms `h·L/6·[[2, 1],
+/// [1, 2]]` of every convection edge, assembled straight into CSR ([`super::pattern`]).
 pub(crate) fn matrix(section: &Section, mesh: &Mesh, conductivity: &[Conductivity]) -> CsMat<f64> {
-    let n = mesh.nodes.len();
-    let mut tri = TriMat::with_capacity(
-        (n, n),
-        9 * mesh.triangles.len() + 4 * mesh.boundary_edges.len(),
-    );
-    add_conduction(&mut tri, mesh, conductivity);
-    add_film_terms(&mut tri, section, mesh);
-    tri.to_csr()
-}
-
-/// Element conduction matrices `A·Bᵀ·D·B` of every triangle.
-fn add_conduction(tri: &mut TriMat<f64>, mesh: &Mesh, conductivity: &[Conductivity]) {
-    for (t, ids) in mesh.triangles.iter().enumerate() {
-        let ke = TriangleGeometry::of(mesh, t).conduction(&conductivity[mesh.material[t]]);
-        for i in 0..3 {
-            for j in 0..3 {
-                tri.add_triplet(ids[i], ids[j], ke[(i, j)]);
-            }
-        }
-    }
-}
-
-/// Film term `h·L/6·[[2, 1], [1, 2]]` of every convection edge.
-fn add_film_terms(tri: &mut TriMat<f64>, section: &Section, mesh: &Mesh) {
-    for (e, h) in convection_edges(section, mesh) {
-        let l = mesh.edge_length(e);
-        let d = h * l / 3.0;
-        let o = h * l / 6.0;
-        let [a, b] = e.nodes;
-        tri.add_triplet(a, a, d);
-        tri.add_triplet(b, b, d);
-        tri.add_triplet(a, b, o);
-        tri.add_triplet(b, a, o);
-    }
+    let films: Vec<([usize; 2], f64, f64)> = convection_edges(section, mesh)
+        .map(|(e, h)| {
+            let l = mesh.edge_length(e);
+            (e.nodes, h * l / 3.0, h * l / 6.0)
+        })
+        .collect();
+    super::pattern::assemble_csr(mesh, conductivity, &films)
 }
 
 /// The boundary edges of convection boundaries with their film coefficient, W/(m²·K).

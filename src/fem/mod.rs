@@ -7,6 +7,8 @@
 //!   `h·L/6·[[2,1],[1,2]]` per convective edge) and loads (uniform source `Q·A/3` per triangle
 //!   node, imposed flux `q·L/2` and convection `h·T∞·L/2` per edge node, positive into the
 //!   section), the Dirichlet values of nodes on fixed edges;
+//! - [`pattern`]: the CSR sparsity pattern from the triangles and the parallel, deterministic
+//!   scatter of element matrices into it;
 //! - [`checks`]: the consistency of the mesh against the section and the refusal of singular
 //!   models.
 //!
@@ -18,6 +20,7 @@
 pub mod assemble;
 pub mod checks;
 pub mod element;
+pub mod pattern;
 #[cfg(test)]
 mod tests;
 #[cfg(test)]
@@ -32,12 +35,14 @@ use crate::error::{Error, Result};
 use crate::mesh::Mesh;
 use crate::model::Section;
 use sprs::CsMat;
+use std::sync::Arc;
 
 /// The assembled finite element system of a section.
 #[derive(Debug, Clone, PartialEq)]
 pub struct System {
-    /// Full n×n matrix (conduction + convection), CSR, symmetric, W/K per metre of depth.
-    pub matrix: CsMat<f64>,
+    /// Full n×n matrix (conduction + convection), CSR, symmetric, W/K per metre of depth;
+    /// shared (not copied) by the load cases that reuse it.
+    pub matrix: Arc<CsMat<f64>>,
     /// Full load vector, W/m.
     pub load: Vec<f64>,
     /// Dirichlet value per node, °C; `None` for a free node.
@@ -57,7 +62,19 @@ impl System {
     /// Nodal residual `R = K·T − f` of the full system: at a fixed node, the heat entering the
     /// section through the Dirichlet condition there (W/m); at a free node, round-off.
     pub fn residual(&self, temperature: &[f64]) -> Result<Vec<f64>> {
+        self.residual_with_load(&self.load, temperature)
+    }
+
+    /// Nodal residual `K·T − f` of this system's matrix with another load vector `f` (a load
+    /// case on the same matrix), W/m.
+    pub fn residual_with_load(&self, load: &[f64], temperature: &[f64]) -> Result<Vec<f64>> {
         let n = self.node_count();
+        if load.len() != n {
+            return Err(Error::run(format!(
+                "internal error: residual of a system with {n} nodes asked for {} loads",
+                load.len()
+            )));
+        }
         if temperature.len() != n || self.matrix.rows() != n || self.matrix.cols() != n {
             return Err(Error::run(format!(
                 "internal error: residual of a system with {n} nodes asked for {} temperatures",
@@ -65,7 +82,7 @@ impl System {
             )));
         }
         let mut r = mat_vec(&self.matrix, temperature)?;
-        for (ri, fi) in r.iter_mut().zip(&self.load) {
+        for (ri, fi) in r.iter_mut().zip(load) {
             *ri -= fi;
         }
         Ok(r)
@@ -88,7 +105,7 @@ pub fn assemble(section: &Section, mesh: &Mesh) -> Result<System> {
     let matrix = assemble::matrix(section, mesh, &conductivity);
     let load = assemble::load(section, mesh, &LoadCase::from_section(section));
     Ok(System {
-        matrix,
+        matrix: Arc::new(matrix),
         load: load.vector,
         fixed: load.fixed,
         cell_source: load.cell_source,

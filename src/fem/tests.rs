@@ -199,3 +199,103 @@ fn morton_renumbered_and_plain_assembly_give_the_same_temperatures() {
         );
     }
 }
+
+/// A 100 × 100-cell rectangle (20,000 triangles, more than one [`pattern::ELEMENT_CHUNK`]) with
+/// nodes moved off the grid and two materials, convection on two sides.
+fn irregular_system() -> (Section, crate::mesh::Mesh) {
+    let tags = [Some(1), Some(0), Some(0), None];
+    let section = rectangle_section(
+        2.0,
+        1.0,
+        &[("a", 1.3, 0.0), ("b", 0.04, 0.0)],
+        &[
+            (
+                "air",
+                BoundaryKind::Convection {
+                    h: 8.0,
+                    ambient: -3.0,
+                },
+            ),
+            ("base", BoundaryKind::Fixed { temperature: 5.0 }),
+        ],
+        tags,
+    );
+    let mut mesh = rectangle_mesh(2.0, 1.0, 100, 100, tags, |c| usize::from(c[0] > 1.1));
+    for (i, p) in mesh.nodes.iter_mut().enumerate() {
+        let on_edge = p[0] == 0.0 || p[0] == 2.0 || p[1] == 0.0 || p[1] == 1.0;
+        if !on_edge {
+            let s = (i as f64 * 0.618_033_988_7).fract() - 0.5;
+            p[0] += 0.004 * s;
+            p[1] -= 0.003 * s;
+        }
+    }
+    (section, mesh)
+}
+
+#[test]
+fn csr_assembly_equals_triplet_assembly_and_is_bit_symmetric() {
+    let (section, mesh) = irregular_system();
+    let k = assemble_matrix(&section, &mesh).expect("assembles");
+    // Reference: the same element and film terms through sprs' triplet list.
+    let cond = material_conductivity(&section);
+    let n = mesh.nodes.len();
+    let mut tri = sprs::TriMat::new((n, n));
+    for (t, ids) in mesh.triangles.iter().enumerate() {
+        let ke = TriangleGeometry::of(&mesh, t).conduction(&cond[mesh.material[t]]);
+        for i in 0..3 {
+            for j in 0..3 {
+                tri.add_triplet(ids[i], ids[j], ke[(i, j)]);
+            }
+        }
+    }
+    for e in &mesh.boundary_edges {
+        if e.boundary == Some(0) {
+            let l = mesh.edge_length(e);
+            let [a, b] = e.nodes;
+            tri.add_triplet(a, a, 8.0 * l / 3.0);
+            tri.add_triplet(b, b, 8.0 * l / 3.0);
+            tri.add_triplet(a, b, 8.0 * l / 6.0);
+            tri.add_triplet(b, a, 8.0 * l / 6.0);
+        }
+    }
+    let reference: sprs::CsMat<f64> = tri.to_csr();
+    assert_eq!(k.indptr().raw_storage(), reference.indptr().raw_storage());
+    assert_eq!(k.indices(), reference.indices());
+    let scale = reference.data().iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    for (a, b) in k.data().iter().zip(reference.data()) {
+        assert!((a - b).abs() <= 1e-12 * scale, "{a} vs {b}");
+    }
+    // Bit-symmetric: entry (i, j) is entry (j, i) exactly.
+    for (i, row) in k.outer_iterator().enumerate() {
+        for (j, &v) in row.iter() {
+            assert_eq!(k.get(j, i).copied(), Some(v), "({i}, {j})");
+        }
+    }
+}
+
+#[test]
+fn csr_assembly_is_the_same_on_one_and_two_threads() {
+    let (section, mesh) = irregular_system();
+    let on = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .expect("a pool")
+            .install(|| assemble_matrix(&section, &mesh).expect("assembles"))
+    };
+    let (one, two) = (on(1), on(2));
+    assert_eq!(one.data(), two.data());
+    assert_eq!(one.indices(), two.indices());
+}
+
+#[test]
+fn pattern_of_a_single_triangle_is_full_and_sorted() {
+    let mut mesh = rectangle_mesh(1.0, 1.0, 1, 1, [None; 4], |_| 0);
+    mesh.triangles.truncate(1);
+    mesh.material.truncate(1);
+    let (indptr, indices) = pattern::csr_pattern(&mesh);
+    // Triangle (0, 1, 3): rows 0, 1, 3 hold {0, 1, 3}; node 2 is in no triangle and keeps
+    // only its diagonal.
+    assert_eq!(indptr, vec![0, 3, 6, 7, 10]);
+    assert_eq!(indices, vec![0, 1, 3, 0, 1, 3, 2, 0, 1, 3]);
+}

@@ -39,27 +39,34 @@ pub fn rectangle_mesh(
         .collect();
     let cell = |i: usize, j: usize| 2 * (j * nx + i);
     let mut boundary_edges = Vec::new();
-    let edge = |nodes: [usize; 2], boundary, triangle| BoundaryEdge {
+    let edge = |nodes: [usize; 2], boundary: Option<usize>, triangle, segment| BoundaryEdge {
         nodes,
         boundary,
         triangle,
         ring: RingRef::Outline,
+        segment,
     };
     for i in 0..nx {
-        boundary_edges.push(edge([id(i, 0), id(i + 1, 0)], tags[0], cell(i, 0)));
+        boundary_edges.push(edge([id(i, 0), id(i + 1, 0)], tags[0], cell(i, 0), 0));
     }
     for j in 0..ny {
-        boundary_edges.push(edge([id(nx, j), id(nx, j + 1)], tags[1], cell(nx - 1, j)));
+        boundary_edges.push(edge(
+            [id(nx, j), id(nx, j + 1)],
+            tags[1],
+            cell(nx - 1, j),
+            1,
+        ));
     }
     for i in (0..nx).rev() {
         boundary_edges.push(edge(
             [id(i + 1, ny), id(i, ny)],
             tags[2],
             cell(i, ny - 1) + 1,
+            2,
         ));
     }
     for j in (0..ny).rev() {
-        boundary_edges.push(edge([id(0, j + 1), id(0, j)], tags[3], cell(0, j) + 1));
+        boundary_edges.push(edge([id(0, j + 1), id(0, j)], tags[3], cell(0, j) + 1, 3));
     }
     let (dx, dy) = (w / nx as f64, h / ny as f64);
     let min_angle = dy.atan2(dx).min(dx.atan2(dy)).to_degrees();

@@ -120,18 +120,44 @@ pub fn bbox(points: impl IntoIterator<Item = Point>) -> [f64; 4] {
     b
 }
 
-/// Smallest interior angle of the triangle `p`, degrees.
-pub fn min_angle_deg(p: [Point; 3]) -> f64 {
-    let angle = |a: Point, b: Point, c: Point| {
-        let u = [b[0] - a[0], b[1] - a[1]];
-        let v = [c[0] - a[0], c[1] - a[1]];
-        let cr = u[0] * v[1] - u[1] * v[0];
-        let dot = u[0] * v[0] + u[1] * v[1];
-        cr.abs().atan2(dot).to_degrees()
+/// The corner of triangle `p` opposite its shortest edge, with the two edge vectors from it:
+/// the smallest interior angle is there (the larger side faces the larger angle).
+fn smallest_corner(p: [Point; 3]) -> ([f64; 2], [f64; 2]) {
+    let d2 = |a: Point, b: Point| (b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2);
+    // Edge i is opposite corner i.
+    let e = [d2(p[1], p[2]), d2(p[2], p[0]), d2(p[0], p[1])];
+    let i = if e[0] <= e[1] && e[0] <= e[2] {
+        0
+    } else if e[1] <= e[2] {
+        1
+    } else {
+        2
     };
-    angle(p[0], p[1], p[2])
-        .min(angle(p[1], p[2], p[0]))
-        .min(angle(p[2], p[0], p[1]))
+    let (a, b, c) = (p[i], p[(i + 1) % 3], p[(i + 2) % 3]);
+    ([b[0] - a[0], b[1] - a[1]], [c[0] - a[0], c[1] - a[1]])
+}
+
+/// Smallest interior angle of the triangle `p`, degrees (one `atan2`, at the corner opposite
+/// the shortest edge).
+pub fn min_angle_deg(p: [Point; 3]) -> f64 {
+    let (u, v) = smallest_corner(p);
+    let cr = u[0] * v[1] - u[1] * v[0];
+    let dot = u[0] * v[0] + u[1] * v[1];
+    cr.abs().atan2(dot).to_degrees()
+}
+
+/// sin² of the smallest interior angle of the triangle `p` (0 for a degenerate triangle), with
+/// no trigonometric call. The smallest angle is at most 60°, where sin² grows with the angle,
+/// so comparing sin² values (or with `sin²(limit)`) orders triangles as their angles do.
+pub fn min_angle_sin2(p: [Point; 3]) -> f64 {
+    let (u, v) = smallest_corner(p);
+    let cr = u[0] * v[1] - u[1] * v[0];
+    let uu = u[0] * u[0] + u[1] * u[1];
+    let vv = v[0] * v[0] + v[1] * v[1];
+    if uu == 0.0 || vv == 0.0 {
+        return 0.0;
+    }
+    cr * cr / (uu * vv)
 }
 
 /// A point written for a message: `(x, y)`, each coordinate rounded to 12 significant digits and
@@ -186,6 +212,19 @@ mod tests {
         assert!(!point_in_ring(&[], [0.0, 0.0]));
         assert_eq!(bbox(sq), [0.0, 0.0, 2.0, 1.0]);
         assert!((min_angle_deg([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]]) - 45.0).abs() < 1e-12);
+        // A 30-60-90 triangle in every corner order: the smallest angle is 30°, sin² = 1/4.
+        let t = [[0.0, 0.0], [3f64.sqrt(), 0.0], [0.0, 1.0]];
+        for p in [
+            t,
+            [t[1], t[2], t[0]],
+            [t[2], t[0], t[1]],
+            [t[0], t[2], t[1]],
+        ] {
+            assert!((min_angle_deg(p) - 30.0).abs() < 1e-12);
+            assert!((min_angle_sin2(p) - 0.25).abs() < 1e-15);
+        }
+        assert_eq!(min_angle_sin2([[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]]), 0.0);
+        assert_eq!(min_angle_sin2([[0.0, 0.0], [0.0, 0.0], [2.0, 0.0]]), 0.0);
         assert_eq!(format_point([0.1, -2.0]), "(0.1, -2)");
         assert_eq!(format_point([-0.7, -5.1000000000000005]), "(-0.7, -5.1)");
         assert_eq!(

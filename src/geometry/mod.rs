@@ -85,6 +85,8 @@ pub struct Piece {
     pub boundary: Option<usize>,
     /// The boundary ring this piece lies on, if it is on the section boundary.
     pub ring: Option<RingRef>,
+    /// Segment index within that ring (validated order), only meaningful if `ring` is set.
+    pub segment: usize,
 }
 
 impl Piece {
@@ -225,14 +227,22 @@ fn boundary_of(
     section: &Section,
     sources: &[Source],
     mid: Point,
-) -> Result<(RingRef, Option<usize>)> {
+) -> Result<(RingRef, usize, Option<usize>)> {
     for s in sources {
         match s.ring {
             RingId::Outline => {
-                return Ok((RingRef::Outline, section.outline.edge_boundary[s.segment]));
+                return Ok((
+                    RingRef::Outline,
+                    s.segment,
+                    section.outline.edge_boundary[s.segment],
+                ));
             }
             RingId::Hole(h) => {
-                return Ok((RingRef::Hole(h), section.holes[h].edge_boundary[s.segment]));
+                return Ok((
+                    RingRef::Hole(h),
+                    s.segment,
+                    section.holes[h].edge_boundary[s.segment],
+                ));
             }
             RingId::Region(_) => {}
         }
@@ -270,11 +280,11 @@ fn assemble_pieces(
             }
             continue;
         }
-        let (ring, boundary) = if left.is_none() || right.is_none() {
-            let (r, b) = boundary_of(section, &sources, mid)?;
-            (Some(r), b)
+        let (ring, segment, boundary) = if left.is_none() || right.is_none() {
+            let (r, seg, b) = boundary_of(section, &sources, mid)?;
+            (Some(r), seg, b)
         } else {
-            (None, None)
+            (None, 0, None)
         };
         out.pieces.push(Piece {
             v: [a, b],
@@ -283,6 +293,7 @@ fn assemble_pieces(
             right,
             boundary,
             ring,
+            segment,
         });
     }
     Ok(out)

@@ -77,6 +77,7 @@ fn boundary_edges(
                 boundary: p.boundary,
                 triangle: t,
                 ring,
+                segment: p.segment,
             });
         }
     }

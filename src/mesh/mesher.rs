@@ -449,6 +449,7 @@ impl<'a> Mesher<'a> {
         angle_pass: bool,
     ) -> Inserts {
         let min_angle = self.section.mesh.min_angle;
+        let sin2_limit = (min_angle * (1.0 - 1e-9)).to_radians().sin().powi(2);
         let vertex_size = self.vertex_sizes();
         let mut out = Inserts {
             size: Vec::new(),
@@ -478,7 +479,7 @@ impl<'a> Mesher<'a> {
                 continue;
             }
             if angle_pass
-                && geom::min_angle_deg(p) < min_angle * (1.0 - 1e-9)
+                && geom::min_angle_sin2(p) < sin2_limit
                 && !f.vertices().iter().any(|v| small_cdt[v.fix().index()])
             {
                 let cc = f.circumcenter();

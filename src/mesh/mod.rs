@@ -34,6 +34,9 @@ pub struct BoundaryEdge {
     pub triangle: usize,
     /// The ring (outline or hole) the edge lies on.
     pub ring: RingRef,
+    /// Index of the ring's segment the edge lies on (validated order: see
+    /// `Ring::written_segment` for the index as written).
+    pub segment: usize,
 }
 
 /// A triangle angle that cannot be raised to the limit because two input segments meet at a

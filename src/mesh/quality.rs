@@ -105,27 +105,44 @@ pub(super) fn stats(
         small_input_angles,
         area: 0.0,
     };
+    // Angles compared by sin² (no trigonometry per triangle); degrees for the two worst only.
+    let (mut worst, mut worst_away) = (f64::INFINITY, None::<(f64, usize)>);
     for (t, tri) in triangles.iter().enumerate() {
         let p = [nodes[tri[0]], nodes[tri[1]], nodes[tri[2]]];
         let a = geom::triangle_area(p[0], p[1], p[2]);
         stats.area += a;
         stats.max_area = stats.max_area.max(a);
         stats.min_area = stats.min_area.min(a);
-        let m = geom::min_angle_deg(p);
-        let c = centroid(p);
-        if m < stats.min_angle_deg {
-            stats.min_angle_deg = m;
+        let m = geom::min_angle_sin2(p);
+        if m < worst {
+            worst = m;
             stats.worst_triangle = t;
-            stats.worst_triangle_centroid = c;
         }
-        let near = stats
-            .small_input_angles
-            .iter()
-            .any(|s| (c[0] - s.at[0]).powi(2) + (c[1] - s.at[1]).powi(2) <= s.radius * s.radius);
-        if !near && !tri.iter().any(|&n| small_nodes[n]) {
-            stats.min_angle_away_from_small_input_angles_deg =
-                stats.min_angle_away_from_small_input_angles_deg.min(m);
+        let near_small_angle = || {
+            let c = centroid(p);
+            stats
+                .small_input_angles
+                .iter()
+                .any(|s| (c[0] - s.at[0]).powi(2) + (c[1] - s.at[1]).powi(2) <= s.radius * s.radius)
+        };
+        if worst_away.is_none_or(|(w, _)| m < w)
+            && !tri.iter().any(|&n| small_nodes[n])
+            && !near_small_angle()
+        {
+            worst_away = Some((m, t));
         }
+    }
+    let angle_of = |t: usize| {
+        let tri = triangles[t];
+        geom::min_angle_deg([nodes[tri[0]], nodes[tri[1]], nodes[tri[2]]])
+    };
+    if !triangles.is_empty() {
+        let tri = triangles[stats.worst_triangle];
+        stats.min_angle_deg = angle_of(stats.worst_triangle);
+        stats.worst_triangle_centroid = centroid([nodes[tri[0]], nodes[tri[1]], nodes[tri[2]]]);
+    }
+    if let Some((_, t)) = worst_away {
+        stats.min_angle_away_from_small_input_angles_deg = angle_of(t);
     }
     stats
 }

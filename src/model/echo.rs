@@ -19,6 +19,7 @@ impl Section {
     /// min_angle, heat sources, circle segment counts, and rings as validated (repeated points
     /// dropped, counter-clockwise, one boundary name per segment).
     pub fn resolved_model(&self) -> ModelFile {
+        let (environments, psi) = super::environments::environment_files(self);
         ModelFile {
             title: Some(self.title.clone()),
             mesh: MeshFile {
@@ -68,6 +69,9 @@ impl Section {
                 })
                 .collect(),
             cases: super::cases::case_files(self),
+            cuts: super::cuts::cut_files(&self.cuts),
+            environments,
+            psi,
         }
     }
 

@@ -42,6 +42,16 @@ pub struct ModelFile {
     /// `[[cases]]`: load cases, each overriding values of the base model.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub cases: Vec<super::CaseFile>,
+    /// `[[cuts]]`: polylines across which the heat flow is reported.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub cuts: Vec<super::CutFile>,
+    /// `[environments]`: groups of convection boundaries sharing one ambient, for coupling
+    /// coefficients and temperature factors.
+    #[serde(default, skip_serializing_if = "super::EnvironmentsFile::is_empty")]
+    pub environments: super::EnvironmentsFile,
+    /// `[[psi]]`: linear thermal transmittances against declared reference transmittances.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub psi: Vec<super::PsiFile>,
 }
 
 /// `[mesh]` as written.
@@ -220,6 +230,14 @@ fn point_center<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[
     d.deserialize_seq(PointVisitor("center")).map(|p| p.0)
 }
 
+/// Deserializes a list of points, each exactly two numbers.
+pub(super) fn points_list<'de, D: serde::Deserializer<'de>>(
+    d: D,
+) -> std::result::Result<Vec<[f64; 2]>, D::Error> {
+    let v: Vec<Point2> = Vec::deserialize(d)?;
+    Ok(v.into_iter().map(|p| p.0).collect())
+}
+
 /// Deserializes an optional list of points, each exactly two numbers.
 fn opt_points<'de, D: serde::Deserializer<'de>>(
     d: D,
@@ -235,7 +253,16 @@ pub fn parse(text: &str) -> Result<ModelFile> {
     toml::from_str::<ModelFile>(text).map_err(|e| {
         let mut msg = e.message().trim_end().to_string();
         if let Some(hint) = unknown_key_hint(&msg) {
-            msg.push_str(&hint);
+            // The hint goes before serde's list of expected keys, which may be long enough to
+            // be cut when printed.
+            msg = match msg.find(", expected") {
+                Some(i) => format!(
+                    "{}{hint} Expected{}",
+                    &msg[..i],
+                    &msg[i + ", expected".len()..]
+                ),
+                None => msg + &hint,
+            };
         }
         match e.span() {
             Some(span) => located_error(text, span.start, &msg),

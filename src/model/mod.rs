@@ -6,7 +6,9 @@
 use serde::Serialize;
 
 mod cases;
+mod cuts;
 mod echo;
+mod environments;
 mod file;
 mod ring;
 mod suggest;
@@ -18,6 +20,11 @@ mod tests;
 pub use cases::{
     Case, CaseBoundary, CaseBoundaryFile, CaseFile, CaseMaterial, CaseMaterialFile, MAX_CASES,
     RESERVED_CASE_NAMES,
+};
+pub use cuts::{Cut, CutFile};
+pub use environments::{
+    Environment, Environments, EnvironmentsFile, F_RSI_MIN_KEY, MAX_ENVIRONMENTS, MAX_REFERENCE_U,
+    Psi, PsiFile, ReferenceFile,
 };
 pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
@@ -247,6 +254,10 @@ pub struct Section {
     /// Load cases in file order (`[[cases]]`); [`Section::case_section`] gives the section of
     /// one.
     pub cases: Vec<Case>,
+    /// Cuts in file order (`[[cuts]]`).
+    pub cuts: Vec<Cut>,
+    /// Environments and ψ declarations (`[environments]`, `[[psi]]`).
+    pub environments: Environments,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

@@ -1,6 +1,6 @@
 //! Validation: a parsed [`ModelFile`] becomes a [`Section`] through a fixed sequence of named
 //! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
-//! cases), or an
+//! cases, cuts, environments), or an
 //! error naming the offending item.
 
 use super::cases::validate_cases;
@@ -34,6 +34,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let probes = validate_probes(file)?;
     let lines = validate_lines(file)?;
     let cases = validate_cases(file, &materials, &boundaries)?;
+    let cuts = super::cuts::validate_cuts(file)?;
+    let environments =
+        super::environments::validate_environments(file, &boundaries, &boundary_ids)?;
     let ctx = RingContext {
         boundaries: &file.boundaries,
         boundary_ids: &boundary_ids,
@@ -57,6 +60,8 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         probes,
         lines,
         cases,
+        cuts,
+        environments,
         warnings,
         validated: Validated,
     })

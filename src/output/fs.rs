@@ -45,10 +45,12 @@ impl OutputSet {
         self.add(name, bytes);
     }
 
-    /// The manifest entries (path, size, SHA-256) of every file added so far, in order.
+    /// The manifest entries (path, size, SHA-256) of every file added so far, in order (the
+    /// digests computed on the global pool).
     pub fn manifest(&self) -> Vec<ManifestEntry> {
+        use rayon::prelude::*;
         self.files
-            .iter()
+            .par_iter()
             .map(|(n, b)| ManifestEntry::of(n, b))
             .collect()
     }

@@ -67,6 +67,7 @@ pub fn grid_vtu_with(
                 },
             ],
             cell_data: vec![],
+            field_data: vec![],
         },
         options,
     )

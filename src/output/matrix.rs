@@ -21,9 +21,9 @@ use sprs::CsMat;
 
 /// The Matrix Market text (`coordinate real symmetric`) of the symmetric CSR matrix `k`, the
 /// triangle the Cholesky factorisation reads: for each row `j`, the entries `k(j, i)` with
-/// `i ≥ j`, written as lower-triangle entries `(i + 1, j + 1)`. Assembly sums `k(i, j)` and
-/// `k(j, i)` in different orders, so the two triangles agree only to round-off; the file holds
-/// the values the solver uses, and re-factorising it gives the same temperatures bit for bit.
+/// `i ≥ j`, written as lower-triangle entries `(i + 1, j + 1)`. Assembly makes `k(i, j)` and
+/// `k(j, i)` equal bit for bit, so either triangle is the matrix; re-factorising the file gives
+/// the same temperatures bit for bit.
 pub fn symmetric_mtx(k: &CsMat<f64>, comment: &str) -> Result<Vec<u8>> {
     let n = k.rows();
     if k.cols() != n || !k.is_csr() {

@@ -10,6 +10,8 @@
 //! * the Matrix Market export of the reduced system ([`matrix_files`], `matrix.rs`);
 //! * the CSV writers [`nodes_csv`], [`probes_csv`], [`line_csv`], [`boundaries_csv`] and those
 //!   of the studies (convergence, verify, gridcheck, compare);
+//! * the report page `report.html` ([`report_html`], `report_page.rs`, on the polyglot HTML
+//!   writer of `html.rs`);
 //! * the JSON files, each a typed serde record with `"schema": "xsheat.<kind>/<n>"`:
 //!   [`summary_json`] (`xsheat.summary/2`), [`convergence_json`] (`xsheat.convergence/2`) and
 //!   [`verify_json`] (`xsheat.verify/1`).
@@ -39,13 +41,17 @@
 
 mod cases;
 mod converge;
+mod coupling;
 mod crosscheck;
 mod csv;
+mod flows;
 mod fs;
 mod grid_vtk;
+mod html;
 mod json;
 mod manifest;
 mod matrix;
+mod report_page;
 mod resultdir;
 mod solve;
 mod summary;
@@ -61,11 +67,13 @@ pub use cases::*;
 pub use converge::*;
 pub use crosscheck::*;
 pub use csv::*;
+pub use flows::*;
 pub use fs::*;
 pub use grid_vtk::*;
 pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
 pub use manifest::*;
 pub use matrix::*;
+pub use report_page::*;
 pub use resultdir::*;
 pub use solve::*;
 pub use summary::*;

@@ -38,25 +38,41 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
     let case_arrays = output::case_point_arrays(sv);
     let case_points: Vec<(&str, &[f64])> =
         case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
+    let material_names: Vec<&str> = s.materials.iter().map(|m| m.name.as_str()).collect();
     set.add(
         "field.vtu",
-        output::field_vtu_arrays(
+        output::field_vtu_named(
             &sv.mesh,
             &sv.results,
+            &material_names,
             &[("error_indicator", &sv.error_estimate.indicator)],
             &case_points,
             &options.vtk,
         )?,
+    );
+    set.add(
+        "boundary.vtp",
+        output::boundary_vtp(s, &sv.mesh, &sv.results, &options.vtk)?,
     );
     if options.nodes_csv {
         set.add("nodes.csv", output::nodes_csv(&sv.mesh, &sv.results)?);
     }
     set.add("probes.csv", output::probes_csv(&sv.results)?);
     set.add("boundaries.csv", output::boundaries_csv(&sv.results)?);
+    set.add("items.csv", output::items_csv(&sv.results)?);
+    set.add("materials.csv", output::materials_csv(&sv.results)?);
+    if !s.cuts.is_empty() {
+        set.add("cuts.csv", output::cuts_csv(&sv.results)?);
+    }
     for l in &sv.results.lines {
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
     output::add_case_files(&mut set, sv, options)?;
+    let mut listed: Vec<String> = set.names().map(str::to_string).collect();
+    listed.push(output::REPORT_FILE.to_string());
+    listed.push(output::SUMMARY_FILE.to_string());
+    listed.sort();
+    set.add(output::REPORT_FILE, output::report_html(sv, None, &listed));
     let model = s.resolved_json();
     let files = set.manifest();
     let timings = sv.timings.with_write(started.elapsed().as_secs_f64());
@@ -73,6 +89,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
                 adaptivity: &sv.adaptivity,
                 timings: &timings,
                 model: &model,
+                coupling: sv.coupling.as_ref(),
             },
             &files,
         )?,

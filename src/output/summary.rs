@@ -37,6 +37,9 @@ pub struct SummaryInputs<'a> {
     pub timings: &'a Timings,
     /// The model as resolved, with its defaults filled in, in the model file's own key names.
     pub model: &'a Value,
+    /// Coupling coefficients, ψ and temperature factors (`None` without environments: then
+    /// no such keys).
+    pub coupling: Option<&'a crate::run::coupling::Coupling>,
 }
 
 #[derive(Serialize)]
@@ -45,6 +48,37 @@ struct MaterialOut<'a> {
     name: &'a str,
     conductivity_w_per_m_k: f64,
     heat_source_w_per_m3: f64,
+    /// Meshed area (null when the material has no triangle on the mesh).
+    area_m2: Option<f64>,
+    heat_generated_w_per_m: Option<f64>,
+    mean_temperature_c: Option<f64>,
+    min_temperature_c: Option<f64>,
+    max_temperature_c: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct CutOut<'a> {
+    name: &'a str,
+    closed: bool,
+    length_m: f64,
+    inside_length_m: f64,
+    skipped_length_m: f64,
+    heat_flow_w_per_m: f64,
+    crossed_edges: usize,
+}
+
+#[derive(Serialize)]
+struct ItemOut<'a> {
+    item: &'a str,
+    ring: &'a str,
+    segments: &'a str,
+    boundary: &'a str,
+    kind: &'a str,
+    length_m: f64,
+    heat_flow_w_per_m: f64,
+    mean_temperature_c: f64,
+    min_temperature_c: f64,
+    max_temperature_c: f64,
 }
 
 #[derive(Serialize)]
@@ -182,6 +216,11 @@ struct Summary<'a> {
     energy_imbalance_relative: f64,
     probes: Vec<ProbeOut<'a>>,
     lines: Vec<LineOut<'a>>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    cuts: Vec<CutOut<'a>>,
+    items: Vec<ItemOut<'a>>,
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    coupling: Option<super::coupling::CouplingOut<'a>>,
     error_estimate: ErrorEstimateOut,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     adaptivity: Vec<CycleOut>,
@@ -208,15 +247,56 @@ fn check_unique_boundaries(r: &Results) -> Result<()> {
     Ok(())
 }
 
-fn materials(section: &Section) -> Vec<MaterialOut<'_>> {
+fn materials<'a>(section: &'a Section, r: &'a Results) -> Vec<MaterialOut<'a>> {
     section
         .materials
         .iter()
-        .map(|m| MaterialOut {
-            id: m.id,
-            name: &m.name,
-            conductivity_w_per_m_k: m.conductivity,
-            heat_source_w_per_m3: m.heat_source,
+        .map(|m| {
+            let res = r.materials.iter().find(|x| x.id == m.id);
+            MaterialOut {
+                id: m.id,
+                name: &m.name,
+                conductivity_w_per_m_k: m.conductivity,
+                heat_source_w_per_m3: m.heat_source,
+                area_m2: res.map(|x| x.area),
+                heat_generated_w_per_m: res.map(|x| x.heat_generated),
+                mean_temperature_c: res.map(|x| x.mean_temperature),
+                min_temperature_c: res.map(|x| x.min_temperature),
+                max_temperature_c: res.map(|x| x.max_temperature),
+            }
+        })
+        .collect()
+}
+
+fn cuts(r: &Results) -> Vec<CutOut<'_>> {
+    r.cuts
+        .iter()
+        .map(|c| CutOut {
+            name: &c.name,
+            closed: c.closed,
+            length_m: c.length,
+            inside_length_m: c.inside_length,
+            skipped_length_m: c.skipped_length(),
+            heat_flow_w_per_m: c.heat_flow,
+            crossed_edges: c.crossed_edges,
+        })
+        .collect()
+}
+
+fn items(r: &Results) -> Vec<ItemOut<'_>> {
+    r.items
+        .iter()
+        .map(|i| ItemOut {
+            item: &i.item,
+            ring: &i.ring,
+            segments: &i.segments,
+            boundary: &i.result.name,
+            kind: i.result.kind.as_str(),
+            length_m: i.result.length,
+            heat_flow_w_per_m: i.result.heat_flow,
+            mean_temperature_c: i.result.mean_temperature,
+            min_temperature_c: i.result.min_temperature,
+            max_temperature_c: i.result.max_temperature,
         })
         .collect()
 }
@@ -353,7 +433,7 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
         min_angle_deg: mesh.stats.min_angle_deg,
         max_triangle_area_m2: mesh.stats.max_area,
         section_area_m2: mesh.stats.area,
-        materials: materials(section),
+        materials: materials(section, r),
         temperature: TemperatureOut {
             min_c: r.t_min.value,
             max_c: r.t_max.value,
@@ -374,6 +454,11 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
         energy_imbalance_relative: r.energy_imbalance_relative,
         probes: probes(r),
         lines: lines(r),
+        cuts: cuts(r),
+        items: items(r),
+        coupling: inputs
+            .coupling
+            .map(|c| super::coupling::coupling_out(section, c)),
         error_estimate: ErrorEstimateOut::from(inputs.error_estimate),
         adaptivity: cycles(inputs.adaptivity),
         warnings: inputs.warnings,

@@ -27,6 +27,7 @@ fn tiny_mesh() -> Mesh {
         boundary: Some(0),
         triangle: t,
         ring: RingRef::Outline,
+        segment: 0,
     };
     Mesh {
         nodes,
@@ -114,6 +115,9 @@ fn tiny_results() -> Results {
             ],
             skipped: vec![(2, [3.0, 0.5])],
         }],
+        cuts: Vec::new(),
+        items: Vec::new(),
+        materials: Vec::new(),
         warnings: vec![],
     }
 }
@@ -368,6 +372,7 @@ fn summary_has_keys_in_order() {
         adaptivity: &[],
         timings: &timings,
         model: &model,
+        coupling: None,
     };
     let files = [ManifestEntry::of("nodes.csv", b"node\n")];
     let with_files = summary_json_with_files(&inputs, &files).unwrap();
@@ -406,6 +411,7 @@ fn summary_has_keys_in_order() {
         "energy_imbalance_relative",
         "probes",
         "lines",
+        "items",
         "error_estimate",
         "warnings",
         "checks",
@@ -486,6 +492,7 @@ fn summary_lists_adaptive_cycles() {
         adaptivity: &cycles,
         timings: &Timings::default(),
         model: &Value::Null,
+        coupling: None,
     })
     .unwrap();
     let v: Value = serde_json::from_slice(&bytes).unwrap();

@@ -142,6 +142,9 @@ pub struct VtuPiece<'a> {
     pub point_data: Vec<VtkArray<'a>>,
     /// Cell data.
     pub cell_data: Vec<VtkArray<'a>>,
+    /// Field data of the data set (e.g. one array per material name holding its id), written
+    /// before the piece.
+    pub field_data: Vec<VtkArray<'a>>,
 }
 
 /// Standard base64 (RFC 4648, with `=` padding) of `bytes`, appended to `out`.
@@ -208,9 +211,22 @@ impl Appender {
         components: usize,
         values: VtkValues,
     ) -> Result<()> {
+        let size = format!(r#"NumberOfComponents="{components}""#);
+        self.array_with(indent, name, &size, values)
+    }
+
+    /// One `DataArray` with the size attribute `size` (`NumberOfComponents="…"` for point and
+    /// cell data, `NumberOfTuples="…"` for field data) and its payload.
+    fn array_with(
+        &mut self,
+        indent: &str,
+        name: &str,
+        size: &str,
+        values: VtkValues,
+    ) -> Result<()> {
         let _ = writeln!(
             self.xml,
-            r#"{indent}<DataArray type="{}" Name="{}" NumberOfComponents="{components}" format="appended" offset="{}"/>"#,
+            r#"{indent}<DataArray type="{}" Name="{}" {size} format="appended" offset="{}"/>"#,
             values.type_name(),
             xml_attr(name),
             self.payload.len()
@@ -238,6 +254,26 @@ impl Appender {
             all.extend_from_slice(&bytes);
             base64_into(&mut self.payload, &all);
         }
+        Ok(())
+    }
+
+    /// `<FieldData>` with one array per entry (tuples = values / components), when any.
+    fn field(&mut self, arrays: &[VtkArray]) -> Result<()> {
+        if arrays.is_empty() {
+            return Ok(());
+        }
+        self.xml.push_str("    <FieldData>\n");
+        for a in arrays {
+            if a.components != 1 {
+                return Err(Error::run(format!(
+                    "internal: VTK field array {} has {} components",
+                    a.name, a.components
+                )));
+            }
+            let size = format!(r#"NumberOfTuples="{}""#, a.values.len());
+            self.array_with("      ", a.name, &size, a.values)?;
+        }
+        self.xml.push_str("    </FieldData>\n");
         Ok(())
     }
 
@@ -289,10 +325,15 @@ pub fn encode_vtu(piece: &VtuPiece, options: &VtkOptions) -> Result<Vec<u8>> {
         xml: format!(
             "<?xml version=\"1.0\"?>\n<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" \
              byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  \
-             <UnstructuredGrid>\n    <Piece NumberOfPoints=\"{points}\" NumberOfCells=\"{cells}\">\n"
+             <UnstructuredGrid>\n"
         ),
         payload: Vec::new(),
     };
+    a.field(&piece.field_data)?;
+    let _ = writeln!(
+        a.xml,
+        "    <Piece NumberOfPoints=\"{points}\" NumberOfCells=\"{cells}\">"
+    );
     a.data("PointData", &piece.point_data, points)?;
     a.data("CellData", &piece.cell_data, cells)?;
     a.xml.push_str("      <Points>\n");
@@ -310,6 +351,82 @@ pub fn encode_vtu(piece: &VtuPiece, options: &VtkOptions) -> Result<Vec<u8>> {
     a.array("        ", "types", 1, VtkValues::U8(&types))?;
     a.xml.push_str(
         "      </Cells>\n    </Piece>\n  </UnstructuredGrid>\n  <AppendedData encoding=\"base64\">\n   _",
+    );
+    let mut out = a.xml.into_bytes();
+    out.reserve(a.payload.len() + 32);
+    out.extend_from_slice(&a.payload);
+    out.extend_from_slice(b"\n  </AppendedData>\n</VTKFile>\n");
+    Ok(out)
+}
+
+/// Line cells (two points each) with point, cell and field data, as VTK XML PolyData
+/// (`.vtp`) bytes, in the same appended base64 layout as [`encode_vtu`].
+#[derive(Debug, Clone)]
+pub struct VtpLines<'a> {
+    /// Point coordinates, 3 per point.
+    pub points: &'a [f64],
+    /// Two point numbers per line.
+    pub connectivity: &'a [i64],
+    /// Point data.
+    pub point_data: Vec<VtkArray<'a>>,
+    /// Cell (line) data.
+    pub cell_data: Vec<VtkArray<'a>>,
+    /// Field data of the data set.
+    pub field_data: Vec<VtkArray<'a>>,
+}
+
+/// [`VtpLines`] encoded as VTK XML PolyData, ending in a newline.
+pub fn encode_vtp_lines(piece: &VtpLines, options: &VtkOptions) -> Result<Vec<u8>> {
+    let points = piece.points.len() / 3;
+    let lines = piece.connectivity.len() / 2;
+    if !piece.points.len().is_multiple_of(3) || !piece.connectivity.len().is_multiple_of(2) {
+        return Err(Error::run(
+            "internal: VTK lines with partial points or cells",
+        ));
+    }
+    if let Some(v) = piece
+        .connectivity
+        .iter()
+        .find(|&&v| v < 0 || v as usize >= points)
+    {
+        return Err(Error::run(format!(
+            "internal: VTK line vertex {v} of {points} points"
+        )));
+    }
+    let compressor = if options.compress {
+        r#" compressor="vtkZLibDataCompressor""#
+    } else {
+        ""
+    };
+    let mut a = Appender {
+        compress: options.compress,
+        xml: format!(
+            "<?xml version=\"1.0\"?>\n<VTKFile type=\"PolyData\" version=\"1.0\" \
+             byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  <PolyData>\n"
+        ),
+        payload: Vec::new(),
+    };
+    a.field(&piece.field_data)?;
+    let _ = writeln!(
+        a.xml,
+        "    <Piece NumberOfPoints=\"{points}\" NumberOfVerts=\"0\" NumberOfLines=\"{lines}\" \
+         NumberOfStrips=\"0\" NumberOfPolys=\"0\">"
+    );
+    a.data("PointData", &piece.point_data, points)?;
+    a.data("CellData", &piece.cell_data, lines)?;
+    a.xml.push_str("      <Points>\n");
+    a.array("        ", "Points", 3, VtkValues::F64(piece.points))?;
+    a.xml.push_str("      </Points>\n      <Lines>\n");
+    let offsets: Vec<i64> = (1..=lines as i64).map(|i| 2 * i).collect();
+    a.array(
+        "        ",
+        "connectivity",
+        1,
+        VtkValues::I64(piece.connectivity),
+    )?;
+    a.array("        ", "offsets", 1, VtkValues::I64(&offsets))?;
+    a.xml.push_str(
+        "      </Lines>\n    </Piece>\n  </PolyData>\n  <AppendedData encoding=\"base64\">\n   _",
     );
     let mut out = a.xml.into_bytes();
     out.reserve(a.payload.len() + 32);
@@ -340,6 +457,15 @@ fn material_ids(mesh: &Mesh) -> Result<Vec<i32>> {
         .collect()
 }
 
+/// The ids 0..n as Int32 values (one per name of a field-data name table).
+pub(crate) fn id_values(n: usize) -> Result<Vec<i32>> {
+    (0..n)
+        .map(|i| {
+            i32::try_from(i).map_err(|_| Error::run(format!("internal: id {i} does not fit Int32")))
+        })
+        .collect()
+}
+
 /// Smallest interior angle of triangle `t`, degrees (0 for a degenerate triangle).
 fn min_angle_deg(mesh: &Mesh, t: usize) -> f64 {
     crate::mesh::min_angle_of(mesh.triangles[t].map(|v| mesh.nodes[v]))
@@ -350,6 +476,7 @@ fn triangles_vtu(
     mesh: &Mesh,
     point_data: Vec<VtkArray>,
     cell_data: Vec<VtkArray>,
+    field_data: Vec<VtkArray>,
     options: &VtkOptions,
 ) -> Result<Vec<u8>> {
     let points = vec3(&mesh.nodes);
@@ -365,6 +492,7 @@ fn triangles_vtu(
             cell_type: 5,
             point_data,
             cell_data,
+            field_data,
         },
         options,
     )
@@ -400,6 +528,21 @@ pub fn field_vtu_arrays(
     extra_points: &[(&str, &[f64])],
     options: &VtkOptions,
 ) -> Result<Vec<u8>> {
+    field_vtu_named(mesh, results, &[], extra_cells, extra_points, options)
+}
+
+/// [`field_vtu_arrays`] with the material names as field data: one `Int32` array of one tuple
+/// per material, named after the material and holding its id (the `material` cell array's
+/// value), in id order. (String arrays would be the natural form, but vtkio — which the tests
+/// read back with — has none.)
+pub fn field_vtu_named(
+    mesh: &Mesh,
+    results: &Results,
+    material_names: &[&str],
+    extra_cells: &[(&str, &[f64])],
+    extra_points: &[(&str, &[f64])],
+    options: &VtkOptions,
+) -> Result<Vec<u8>> {
     check_mesh(mesh)?;
     check_results(mesh, results)?;
     for (name, values) in extra_cells {
@@ -429,7 +572,17 @@ pub fn field_vtu_arrays(
         },
     ];
     cell.extend(extra_cells.iter().map(|(n, v)| VtkArray::scalars(n, v)));
-    triangles_vtu(mesh, point, cell, options)
+    let ids = id_values(material_names.len())?;
+    let field = material_names
+        .iter()
+        .zip(&ids)
+        .map(|(n, id)| VtkArray {
+            name: n,
+            components: 1,
+            values: VtkValues::I32(std::slice::from_ref(id)),
+        })
+        .collect();
+    triangles_vtu(mesh, point, cell, field, options)
 }
 
 /// The mesh as a VTK XML unstructured grid (`.vtu`), uncompressed, with cell data `material`
@@ -455,5 +608,5 @@ pub fn mesh_vtu_with(mesh: &Mesh, options: &VtkOptions) -> Result<Vec<u8>> {
         VtkArray::scalars("quality_min_angle_deg", &angles),
         VtkArray::scalars("area_m2", &areas),
     ];
-    triangles_vtu(mesh, vec![], cell, options)
+    triangles_vtu(mesh, vec![], cell, vec![], options)
 }

@@ -76,6 +76,11 @@ impl<'a> Locator<'a> {
         }
     }
 
+    /// The mesh this locator belongs to.
+    pub fn mesh(&self) -> &'a Mesh {
+        self.mesh
+    }
+
     /// The index of the triangles' bounding boxes.
     pub(crate) fn triangle_index(&self) -> &BoxIndex {
         self.triangles.get_or_init(|| {

@@ -6,11 +6,13 @@
 //! - [`flows`]: heat flow per boundary (reactions for fixed edges, exact edge integrals for flux
 //!   and convection edges) and the energy balance;
 //! - [`sample`]: probes and line profiles;
+//! - [`cuts`]: heat flow across cuts;
 //! - [`estimate`]: the Zienkiewicz–Zhu error estimate.
 //!
 //! [`Locator`] (point location and nearest boundary point) is public for reuse by other
 //! features.
 
+pub mod cuts;
 pub mod estimate;
 pub mod field;
 pub mod flows;
@@ -182,6 +184,13 @@ pub struct Results {
     pub probes: Vec<ProbeResult>,
     /// One profile per line of the section, in order.
     pub lines: Vec<LineResult>,
+    /// Heat flow across each cut of the section, in order.
+    pub cuts: Vec<cuts::CutResult>,
+    /// Heat flow per item: each hole and each run of ring segments with one boundary name
+    /// ([`flows::item_results`]).
+    pub items: Vec<flows::ItemResult>,
+    /// Area, heat generated and temperatures per material ([`flows::material_results`]).
+    pub materials: Vec<flows::MaterialResult>,
     /// Warnings found while post-processing (skipped line samples, snapped probes).
     pub warnings: Vec<String>,
 }
@@ -219,17 +228,44 @@ pub fn postprocess(
     system: &System,
     solution: &Solution,
 ) -> Result<Results> {
+    postprocess_located(section, mesh, system, solution, &Locator::new(mesh))
+}
+
+/// [`postprocess`] with a point locator of `mesh` that several solves on one mesh share (load
+/// cases), so that its spatial index is built once.
+pub fn postprocess_located(
+    section: &Section,
+    mesh: &Mesh,
+    system: &System,
+    solution: &Solution,
+    locator: &Locator,
+) -> Result<Results> {
     check_inputs(section, mesh, system, solution)?;
+    if !std::ptr::eq(locator.mesh(), mesh) {
+        return Err(Error::run(
+            "internal error: a point locator of another mesh",
+        ));
+    }
     let temperature = &solution.temperature;
     let field = field::gradients_and_fluxes(mesh, &system.conductivity, temperature);
-    let boundaries = flows::boundary_results(section, mesh, system, temperature)?;
+    let residual = system.residual(temperature)?;
+    let boundaries = flows::boundary_results(section, mesh, &residual, temperature)?;
+    let items = flows::item_results(section, mesh, &residual, temperature);
+    let materials = flows::material_results(section, mesh, &system.cell_source, temperature);
     let floor = flows::balance_floor(system, temperature);
     let balance = flows::EnergyBalance::of(&boundaries, &system.cell_source, floor);
     let (t_min, t_max) = field::extremes(mesh, temperature);
     let mut warnings = Vec::new();
-    let sampler = sample::Sampler::new(section, mesh, temperature, &field.nodal_flux);
+    let sampler = sample::Sampler::new(section, locator, temperature, &field.nodal_flux);
     let probes = sampler.probes(&mut warnings)?;
     let lines = sampler.lines(&mut warnings)?;
+    let cuts = cuts::cut_flows(
+        section,
+        mesh,
+        &system.conductivity,
+        temperature,
+        &mut warnings,
+    );
     Ok(Results {
         temperature: temperature.clone(),
         cell_gradient: field.cell_gradient,
@@ -244,6 +280,9 @@ pub fn postprocess(
         t_max,
         probes,
         lines,
+        cuts,
+        items,
+        materials,
         warnings,
     })
 }

@@ -3,29 +3,29 @@
 
 use super::{LineResult, LineSample, Locator, Placement, ProbeResult};
 use crate::error::{Error, Result};
-use crate::mesh::Mesh;
 use crate::model::{Line, Section};
 
 /// Evaluates the nodal temperature and recovered heat flux at points of a section.
 pub struct Sampler<'a> {
     section: &'a Section,
-    locator: Locator<'a>,
+    locator: &'a Locator<'a>,
     temperature: Vec<[f64; 1]>,
     nodal_flux: &'a [[f64; 2]],
 }
 
 impl<'a> Sampler<'a> {
     /// A sampler of the given nodal temperatures (°C) and recovered fluxes (W/m²) on a checked
-    /// mesh.
+    /// mesh, locating points with `locator` (a locator of the same mesh, shared by the solves
+    /// on it so that its index is built once).
     pub fn new(
         section: &'a Section,
-        mesh: &'a Mesh,
+        locator: &'a Locator<'a>,
         temperature: &[f64],
         nodal_flux: &'a [[f64; 2]],
     ) -> Self {
         Sampler {
             section,
-            locator: Locator::new(mesh),
+            locator,
             temperature: temperature.iter().map(|&v| [v]).collect(),
             nodal_flux,
         }

@@ -1,4 +1,5 @@
-//! Console text of `xsheat solve`: mesh, temperatures, heat flows, probes, lines, the
+//! Console text of `xsheat solve`: mesh, temperatures, heat flows, probes, lines (cuts, items,
+//! materials and coupling results from `results.rs`), the
 //! Zienkiewicz–Zhu estimate, adaptive cycles, self-checks and warnings.
 
 use super::{fixed, mesh_report, point, push_table, sci, sig3, table};
@@ -133,6 +134,10 @@ pub fn solve_report(sv: &Solved) -> String {
     temperature_line(&mut o, r);
     boundaries_table(&mut o, r);
     probes_and_lines(&mut o, r);
+    super::results::flows_tables(&mut o, r);
+    if let Some(c) = &sv.coupling {
+        super::results::coupling_tables(&mut o, c);
+    }
     let _ = writeln!(
         o,
         "{ERROR_ESTIMATE_METHOD} estimate: {} (estimated error {} (W·K/m)^½)",

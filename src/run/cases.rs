@@ -69,8 +69,9 @@ pub fn solve_cases(
     base: &System,
     factor: &Factorized,
 ) -> Result<Vec<CaseSolved>> {
+    let locator = post::Locator::new(mesh);
     (0..section.cases.len())
-        .map(|i| solve_case(section, mesh, base, factor, i))
+        .map(|i| solve_case_located(section, mesh, base, factor, i, &locator))
         .collect()
 }
 
@@ -81,6 +82,18 @@ pub fn solve_case(
     base: &System,
     factor: &Factorized,
     i: usize,
+) -> Result<CaseSolved> {
+    solve_case_located(section, mesh, base, factor, i, &post::Locator::new(mesh))
+}
+
+/// [`solve_case`] with a point locator of `mesh` shared by the cases.
+fn solve_case_located(
+    section: &Section,
+    mesh: &Mesh,
+    base: &System,
+    factor: &Factorized,
+    i: usize,
+    locator: &post::Locator,
 ) -> Result<CaseSolved> {
     let Some(cs) = section.case_section(i) else {
         return Err(crate::error::Error::run(format!(
@@ -95,7 +108,7 @@ pub fn solve_case(
     } else {
         let load = fem::assemble_load(&cs, mesh, &LoadCase::from_section(&cs))?;
         let system = System {
-            matrix: base.matrix.clone(),
+            matrix: std::sync::Arc::clone(&base.matrix),
             load: load.vector,
             fixed: load.fixed,
             cell_source: load.cell_source,
@@ -104,7 +117,7 @@ pub fn solve_case(
         let solution = factor.solve(&system.load, &system.fixed)?;
         (Factorisation::Reused, system, solution)
     };
-    let results = post::postprocess(&cs, mesh, &system, &solution)?;
+    let results = post::postprocess_located(&cs, mesh, &system, &solution, locator)?;
     let checks = self_checks(&cs, mesh, &system, &results)?;
     let mut warnings = results.warnings.clone();
     for c in &checks {

@@ -85,7 +85,8 @@ pub struct Timings {
     pub solve_s: f64,
     /// Post-processing and error estimate.
     pub post_s: f64,
-    /// Load cases: assembly of loads (or matrices), solves, post-processing, self-checks.
+    /// Load cases (assembly of loads or matrices, solves, post-processing, self-checks) and the
+    /// unit solves of declared environments.
     pub cases_s: f64,
     /// Encoding of the result files other than summary.json (measured before summary.json
     /// itself is encoded; the files are flushed and switched in after it).
@@ -137,6 +138,9 @@ pub struct Solved {
     pub adaptivity: Vec<Cycle>,
     /// The model's load cases, solved on the same mesh (empty without `[[cases]]`).
     pub cases: Vec<CaseSolved>,
+    /// Coupling coefficients, ψ and temperature factors of the declared environments (`None`
+    /// without `[environments]`).
+    pub coupling: Option<coupling::Coupling>,
     /// Numerical self-checks.
     pub checks: Vec<Check>,
     /// Warnings of every stage and of self-checks of severity warning, each once.
@@ -228,13 +232,24 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             warnings.push(w.clone());
         }
     }
-    let checks = self_checks(&prepared.section, &mesh, &system, &results)?;
+    let mut checks = self_checks(&prepared.section, &mesh, &system, &results)?;
     for c in &checks {
         if c.status() == CheckStatus::Warning {
             warnings.push(format!("self-check {}: {}", c.name, c.detail));
         }
     }
     let t5 = Instant::now();
+    let mut coupled = None;
+    if let Some((c, check, notes)) =
+        coupling::coupling(&prepared.section, &mesh, &system, &factor, &results)?
+    {
+        if check.status() == CheckStatus::Warning {
+            warnings.push(format!("self-check {}: {}", check.name, check.detail));
+        }
+        checks.push(check);
+        warnings.extend(notes);
+        coupled = Some(c);
+    }
     let cases = cases::solve_cases(&prepared.section, &mesh, &system, &factor)?;
     for c in &cases {
         warnings.extend(c.warnings.iter().map(|w| format!("case {}: {w}", c.name)));
@@ -248,6 +263,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
         error_estimate,
         adaptivity: Vec::new(),
         cases,
+        coupling: coupled,
         checks,
         warnings,
         timings: Timings {
@@ -278,5 +294,6 @@ pub struct Cycle {
 
 pub mod cases;
 mod checks;
+pub mod coupling;
 pub use cases::{CaseSolved, Factorisation};
 pub use checks::*;
