@@ -103,7 +103,8 @@ fn solve_case_located(
     };
     let (factorisation, system, solution) = if section.case_changes_matrix(i) {
         let system = fem::assemble(&cs, mesh)?;
-        let solution = solve::solve_system(&system)?;
+        let solution = solve::Factorized::with_coordinates(&system, &mesh.nodes)?
+            .solve(&system.load, &system.fixed)?;
         (Factorisation::Refactorised, system, solution)
     } else {
         let load = fem::assemble_load(&cs, mesh, &LoadCase::from_section(&cs))?;

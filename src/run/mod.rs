@@ -220,7 +220,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let t1 = Instant::now();
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
-    let factor = solve::Factorized::new(&system)?;
+    let factor = solve::Factorized::with_coordinates(&system, &mesh.nodes)?;
     let solution = factor.solve(&system.load, &system.fixed)?;
     let t3 = Instant::now();
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;

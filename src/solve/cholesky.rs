@@ -1,10 +1,12 @@
-//! The direct solver: sparse Cholesky factorisation by faer (AMD ordering, sequential), and
+//! The direct solver: sparse Cholesky factorisation by faer (sequential; AMD or a nested
+//! dissection of our own as the fill-reducing [`Ordering`]), and
 //! the one conversion of a matrix from sprs storage into faer's ([`to_faer`]).
 
 use super::LinearSolver;
 use crate::error::{Error, Result};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::llt::factor::LltParams;
+use faer::perm::PermRef;
 use faer::sparse::linalg::cholesky::{
     CholeskySymbolicParams, LltRef, SymbolicCholesky, SymmetricOrdering,
     factorize_symbolic_cholesky,
@@ -30,7 +32,7 @@ pub fn to_faer(a: &CsMat<f64>) -> Result<SparseColMat<usize, f64>> {
     Ok(SparseColMat::new(symbolic, a.data().to_vec()))
 }
 
-/// Sparse Cholesky factorisation `A = L·Lᵀ` (faer, AMD ordering), sequential.
+/// Sparse Cholesky factorisation `A = L·Lᵀ` (faer, supernodal), sequential.
 #[derive(Debug)]
 pub struct SparseCholesky {
     symbolic: SymbolicCholesky<usize>,
@@ -42,6 +44,11 @@ impl SparseCholesky {
     /// indices); only its lower triangle is read. Steps: convert ([`to_faer`]), symbolic
     /// analysis, numeric factorisation.
     pub fn factorize(a: &CsMat<f64>) -> Result<Self> {
+        Self::factorize_with(a, Ordering::default())
+    }
+
+    /// As [`factorize`](Self::factorize) with a chosen fill-reducing ordering.
+    pub fn factorize_with(a: &CsMat<f64>, ordering: Ordering<'_>) -> Result<Self> {
         let n = a.rows();
         let matrix = to_faer(a)?;
         let fail = |what: &str| {
@@ -49,10 +56,40 @@ impl SparseCholesky {
                 "sparse Cholesky factorisation failed ({what}); the reduced conduction matrix of order {n} is not numerically positive definite — check for extreme conductivity or film coefficient ratios"
             ))
         };
+        let custom = match ordering {
+            Ordering::Amd => None,
+            Ordering::NestedDissection => {
+                let order =
+                    super::ordering::nested_dissection(a.indptr().raw_storage(), a.indices())?;
+                let mut inverse = vec![0usize; n];
+                for (k, &v) in order.iter().enumerate() {
+                    inverse[v] = k;
+                }
+                Some((order, inverse))
+            }
+            Ordering::Geometric(xy) => {
+                let order = super::ordering::nested_dissection_geometric(
+                    a.indptr().raw_storage(),
+                    a.indices(),
+                    xy,
+                )?;
+                let mut inverse = vec![0usize; n];
+                for (k, &v) in order.iter().enumerate() {
+                    inverse[v] = k;
+                }
+                Some((order, inverse))
+            }
+        };
+        let symmetric_ordering = match &custom {
+            None => SymmetricOrdering::Amd,
+            Some((order, inverse)) => {
+                SymmetricOrdering::Custom(PermRef::new_checked(order, inverse, n))
+            }
+        };
         let symbolic = factorize_symbolic_cholesky(
             matrix.symbolic(),
             Side::Lower,
-            SymmetricOrdering::Amd,
+            symmetric_ordering,
             CholeskySymbolicParams::default(),
         )
         .map_err(|e| fail(&format!("symbolic analysis: {e:?}")))?;
@@ -78,6 +115,24 @@ impl SparseCholesky {
             .map_err(|e| fail(&format!("{e:?}")))?;
         Ok(SparseCholesky { symbolic, values })
     }
+
+    /// Stored entries of the factor L (its fill, the measure an ordering minimises).
+    pub fn factor_entries(&self) -> usize {
+        self.values.len()
+    }
+}
+
+/// The fill-reducing ordering of the factorisation.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum Ordering<'a> {
+    /// faer's approximate minimum degree.
+    #[default]
+    Amd,
+    /// Nested dissection by level-structure separators ([`super::ordering`]).
+    NestedDissection,
+    /// Nested dissection by recursive coordinate bisection, with the coordinates of each
+    /// matrix index ([`super::ordering::nested_dissection_geometric`]).
+    Geometric(&'a [[f64; 2]]),
 }
 
 impl LinearSolver for SparseCholesky {

@@ -3,7 +3,7 @@
 //! on the same fixed nodes. Load cases other than the model file's own are built only by the
 //! tests today; a later change gives them a command-line interface.
 
-use super::cholesky::SparseCholesky;
+use super::cholesky::{Ordering, SparseCholesky};
 use super::{LinearSolver, Solution, norm};
 use crate::error::{Error, Result};
 use crate::fem::{System, mat_vec};
@@ -26,9 +26,32 @@ pub struct Factorized<S: LinearSolver = SparseCholesky> {
 }
 
 impl Factorized<SparseCholesky> {
-    /// Splits the system and factorises `K_ff` by sparse Cholesky.
+    /// Splits the system and factorises `K_ff` by sparse Cholesky (AMD ordering).
     pub fn new(system: &System) -> Result<Self> {
         Self::with_solver(system, SparseCholesky::factorize)
+    }
+
+    /// Splits the system and factorises `K_ff` by sparse Cholesky in a geometric nested
+    /// dissection order of the mesh nodes `nodes` (coordinates per node of the system; see
+    /// [`super::ordering`]). The pipeline's factorisation.
+    pub fn with_coordinates(system: &System, nodes: &[[f64; 2]]) -> Result<Self> {
+        if nodes.len() != system.node_count() {
+            return Err(Error::run(format!(
+                "internal error: {} node coordinates for a system of {} nodes",
+                nodes.len(),
+                system.node_count()
+            )));
+        }
+        let free: Vec<[f64; 2]> = system
+            .fixed
+            .iter()
+            .zip(nodes)
+            .filter(|(f, _)| f.is_none())
+            .map(|(_, p)| *p)
+            .collect();
+        Self::with_solver(system, |a| {
+            SparseCholesky::factorize_with(a, Ordering::Geometric(&free))
+        })
     }
 }
 

@@ -12,18 +12,22 @@
 //! (the pipeline calls [`solve_system`]); they are kept for load cases, which a later change
 //! gives a command-line interface.
 //!
-//! Everything runs sequentially (`faer::Par::Seq`) in a fixed order, so repeated runs give
-//! byte-identical temperatures. After every solve the relative residual of the reduced system
+//! The pipeline orders the factorisation by a geometric nested dissection of the mesh
+//! ([`ordering`], [`Factorized::with_coordinates`]); without coordinates faer's AMD is used.
+//! The numeric factorisation runs sequentially (`faer::Par::Seq`) in a fixed order and the
+//! ordering does not depend on the thread count, so repeated runs give byte-identical
+//! temperatures. After every solve the relative residual of the reduced system
 //! is recomputed as a self-check.
 
 pub mod cg;
 pub mod cholesky;
 pub mod factorized;
+pub mod ordering;
 #[cfg(test)]
 mod tests;
 
 pub use cg::ConjugateGradient;
-pub use cholesky::{SparseCholesky, to_faer};
+pub use cholesky::{Ordering, SparseCholesky, to_faer};
 pub use factorized::Factorized;
 
 use crate::error::Result;
