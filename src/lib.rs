@@ -15,7 +15,8 @@
 //! Beside the pipeline: [`geom`] holds the planar primitives every stage uses (exact orientation,
 //! areas, distances, point-in-ring, the one R-tree spatial index); [`grid`] is the
 //! finite-difference (discrete mean-value) model used by the cross-checks; [`text`] holds number
-//! formatting shared by all stages; [`error`] the two error kinds (input → exit 2, run → exit 1).
+//! formatting shared by all stages; [`progress`] the console progress line of long runs;
+//! [`error`] the two error kinds (input → exit 2, run → exit 1).
 //! The command-line tool (`src/main.rs`) is a thin shell of library calls; see DEVELOPERS.md for
 //! where each job lives.
 
@@ -31,6 +32,7 @@ pub mod mesh;
 pub mod model;
 pub mod output;
 pub mod post;
+pub mod progress;
 pub mod report;
 pub mod run;
 pub mod solve;

@@ -216,22 +216,26 @@ struct Console {
 impl Console {
     /// A summary table or report (stdout; not with --quiet).
     fn table(&self, text: &str) {
+        xsheat::progress::done();
         if !self.quiet {
             print!("{text}");
         }
     }
     /// A result line such as "wrote 3 files to out" (stdout, always).
     fn result(&self, line: &str) {
+        xsheat::progress::done();
         println!("{line}");
     }
     /// Warnings (stderr; not with --quiet).
     fn warnings(&self, warnings: &[String]) {
+        xsheat::progress::done();
         if !self.quiet {
             eprint!("{}", report::warnings_report(warnings));
         }
     }
     /// The one-line caution (stderr, always).
     fn caution(&self) {
+        xsheat::progress::done();
         eprintln!("CAUTION: {}", xsheat::CAUTION);
     }
 }
@@ -314,6 +318,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         nodes_csv: !a.no_nodes_csv,
         case_fields: a.case_fields,
     };
+    xsheat::progress::stage("writing files");
     let set = output::solve_files_with(&solved, &files)?;
     let matrix = match &matrix_out {
         Some(_) => Some(output::matrix_files(&solved.system, &solved.mesh)?),
@@ -352,6 +357,7 @@ fn report_failed_checks(solved: &run::Solved, con: &Console) {
             (_, Severity::Error) => "ERROR",
             (_, Severity::Warning) => "WARNING",
         };
+        xsheat::progress::done();
         eprintln!("{label}: self-check {} failed: {}", c.name, c.detail);
     }
 }
@@ -504,6 +510,9 @@ fn sweep_failures(s: &output::SweepSummary) -> xsheat::Result<()> {
 
 fn execute(cli: Cli) -> xsheat::Result<()> {
     xsheat::set_threads(cli.threads)?;
+    if !cli.quiet {
+        xsheat::progress::install_terminal();
+    }
     let con = Console {
         quiet: cli.quiet,
         wait: cli.wait,
@@ -525,6 +534,7 @@ fn main() -> ExitCode {
     match execute(cli) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
+            xsheat::progress::done();
             eprintln!("error: {e}");
             ExitCode::from(e.exit_code() as u8)
         }

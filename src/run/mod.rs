@@ -207,6 +207,7 @@ pub fn solve_with(
     field: Option<&dyn SizeField>,
 ) -> Result<Solved> {
     let t0 = Instant::now();
+    crate::progress::stage("meshing");
     let mesh = mesh::build_with(&prepared.section, &prepared.pslg, opts, field)?;
     let mesh_s = t0.elapsed().as_secs_f64();
     solve_mesh(prepared, mesh, mesh_s)
@@ -218,11 +219,14 @@ pub fn solve_with(
 /// report.
 pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved> {
     let t1 = Instant::now();
+    crate::progress::stage("assembling");
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
+    crate::progress::stage("solving");
     let factor = solve::Factorized::with_coordinates(&system, &mesh.nodes)?;
     let solution = factor.solve(&system.load, &system.fixed)?;
     let t3 = Instant::now();
+    crate::progress::stage("post-processing");
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;
     let t4 = Instant::now();
@@ -239,6 +243,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
         }
     }
     let t5 = Instant::now();
+    crate::progress::stage("coupling and load cases");
     let mut coupled = None;
     if let Some((c, check, notes)) =
         coupling::coupling(&prepared.section, &mesh, &system, &factor, &results)?

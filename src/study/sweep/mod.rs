@@ -183,9 +183,17 @@ where
     T: Send,
     F: Fn(&Solved) -> Result<T> + Sync,
 {
-    shard
-        .variants(plan.variants)
+    let indices = shard.variants(plan.variants);
+    let total = indices.len();
+    let finished = std::sync::atomic::AtomicUsize::new(0);
+    crate::progress::items("sweep variants", 0, total);
+    indices
         .into_par_iter()
-        .map(|i| run_variant(plan, i, opts, &make))
+        .map(|i| {
+            let v = run_variant(plan, i, opts, &make);
+            let done = finished.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            crate::progress::items("sweep variants", done, total);
+            v
+        })
         .collect()
 }
