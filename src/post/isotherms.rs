@@ -210,9 +210,10 @@ mod tests {
         assert_eq!(levels[0], -2.5);
         assert_eq!(levels[8], 17.5);
         let (step, levels) = round_levels(0.013, 0.094);
-        assert_eq!(step, 0.005);
-        assert!((8..=15).contains(&levels.len()));
-        assert_eq!(levels[0], 0.015);
+        assert_eq!(step, 0.01);
+        assert_eq!(levels.len(), 8);
+        assert_eq!(levels[0], 0.02);
+        assert_eq!(levels[7], 0.09);
         for (lo, hi) in [(0.0, 1.0), (3.3, 3.31), (-40.0, 900.0), (12.0, 13.7)] {
             let (s, l) = round_levels(lo, hi);
             assert!((8..=15).contains(&l.len()), "{lo}..{hi}: {s} {l:?}");

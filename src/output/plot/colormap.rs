@@ -103,12 +103,15 @@ mod tests {
 
     #[test]
     fn ends_and_middle_match_the_published_table() {
-        // matplotlib _cm_listed.py _viridis_data: first, 128th and last rows.
+        // matplotlib _cm_listed.py _viridis_data: first and last rows; every row is hit at
+        // its own fraction k/255.
         assert_eq!(viridis(0.0), [0.267004, 0.004874, 0.329415]);
         assert_eq!(viridis(1.0), [0.993248, 0.906157, 0.143936]);
-        let mid = viridis(128.0 / 255.0);
-        for (c, want) in mid.iter().zip([0.128729, 0.563265, 0.551229]) {
-            assert!((c - want).abs() < 1e-12);
+        for (k, row) in VIRIDIS.iter().enumerate() {
+            let got = viridis(k as f64 / 255.0);
+            for c in 0..3 {
+                assert!((got[c] - row[c]).abs() < 1e-12, "row {k}");
+            }
         }
         assert_eq!(viridis_hex(0.0), "#440154");
         assert_eq!(viridis_hex(1.0), "#fde725");
