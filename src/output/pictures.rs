@@ -8,6 +8,9 @@ use crate::error::Result;
 use crate::post::isotherms::{isotherms, round_levels};
 use crate::run::Solved;
 
+/// Files as (name in the set, bytes).
+pub type NamedFiles = Vec<(String, Vec<u8>)>;
+
 /// Picture and isotherm files of `sv`: with `plot` the two pictures (and the isotherm files),
 /// with `isotherm_files` alone only the isotherm files. Returns the files and the SVG text for
 /// the report page.
@@ -15,7 +18,7 @@ pub fn picture_files(
     sv: &Solved,
     plot: Option<&PlotOptions>,
     isotherm_files: bool,
-) -> Result<(Vec<(String, Vec<u8>)>, Option<String>)> {
+) -> Result<(NamedFiles, Option<String>)> {
     let mut files = Vec::new();
     if plot.is_none() && !isotherm_files {
         return Ok((files, None));
