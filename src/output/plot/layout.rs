@@ -77,7 +77,8 @@ impl Layout {
     /// ymax]`, m), leaving `right` px (× u) for a colour bar or legend.
     pub fn new(size: PlotSize, bbox: [f64; 4], right: f64) -> Self {
         let (w, h) = (f64::from(size.width), f64::from(size.height));
-        let u = (w / 1600.0).min(h / 1000.0).max(0.3);
+        // Text stays legible on small pictures: furniture never shrinks below 3/4 size.
+        let u = (w / 1600.0).min(h / 1000.0).max(0.75);
         let area = [56.0 * u, 112.0 * u, w - right * u, h - 76.0 * u];
         let (bw, bh) = (
             (bbox[2] - bbox[0]).max(1e-300),
