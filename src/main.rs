@@ -67,6 +67,9 @@ enum Command {
     Gridcheck(GridcheckArgs),
     /// Cross-check: compare your own grid results (CSV x,y,temperature or nodes.csv) with the element field.
     Compare(CompareArgs),
+    /// Draw the pictures (field.svg, field.png) and isotherm files of an existing result set of
+    /// solve; the set is re-staged as a whole with its manifest updated.
+    Plot(PlotArgs),
     /// Parameter sweep: solve every variant of a plan (model keys and their values) and write
     /// sweep.csv and each variant's files; or merge shard sets of one plan (--collect).
     Sweep(SweepArgs),
@@ -92,6 +95,59 @@ struct MeshArgs {
     /// zlib-compress the arrays of the .vtu (smaller file, slower to write).
     #[arg(long)]
     vtk_compress: bool,
+    /// Also draw the mesh (triangles by material, worst triangles marked) as NAME.svg beside
+    /// the .vtu.
+    #[arg(long)]
+    plot: bool,
+    #[command(flatten)]
+    picture: PictureArgs,
+}
+
+/// Picture choices shared by solve --plot, mesh --plot and plot.
+#[derive(Args)]
+struct PictureArgs {
+    /// Picture size in pixels, WIDTHxHEIGHT, each 320 to 8000 [default: 1600x1000].
+    #[arg(long, value_name = "WxH")]
+    plot_size: Option<String>,
+    /// Draw heat-flux arrows on the field picture.
+    #[arg(long)]
+    arrows: bool,
+}
+
+impl PictureArgs {
+    fn options(&self) -> xsheat::Result<output::plot::PlotOptions> {
+        let size = match &self.plot_size {
+            Some(s) => output::plot::PlotSize::parse(s)?,
+            None => output::plot::PlotSize::default(),
+        };
+        Ok(output::plot::PlotOptions {
+            size,
+            arrows: self.arrows,
+            probes: true,
+        })
+    }
+
+    /// Refuses picture options given without the option that draws a picture.
+    fn only_with(&self, plot: bool) -> xsheat::Result<()> {
+        if !plot && (self.plot_size.is_some() || self.arrows) {
+            return Err(Error::input(
+                "--plot-size and --arrows apply to pictures: add --plot",
+            ));
+        }
+        Ok(())
+    }
+}
+
+#[derive(Args)]
+struct PlotArgs {
+    /// Model file (TOML) the result set was solved from.
+    model: PathBuf,
+    /// An existing result set of `xsheat solve` of that model.
+    dir: PathBuf,
+    #[command(flatten)]
+    picture: PictureArgs,
+    #[command(flatten)]
+    limit: Limit,
 }
 
 #[derive(Args)]
@@ -125,6 +181,15 @@ struct SolveArgs {
     /// in DIR/field.vtu as `temperature_c:CASE` either way).
     #[arg(long)]
     case_fields: bool,
+    /// Draw the field as field.svg and field.png (and write the isotherm files); the report
+    /// page shows the picture.
+    #[arg(long)]
+    plot: bool,
+    #[command(flatten)]
+    picture: PictureArgs,
+    /// Write the isotherms as isotherms.geojson and isotherms.dxf (also written with --plot).
+    #[arg(long)]
+    isotherms: bool,
 }
 
 #[derive(Args)]
@@ -259,16 +324,35 @@ fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
 
 fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
+    a.picture.only_with(a.plot)?;
+    if a.picture.arrows {
+        return Err(Error::input(
+            "--arrows applies to field pictures (solve --plot, plot)",
+        ));
+    }
+    let size = a.picture.options()?.size;
     let target = output::check_out_file(&a.out, &[&a.model])?;
+    let picture_target = match a.plot {
+        true => Some(mesh_picture_path(&a.out, &a.model)?),
+        false => None,
+    };
     let p = run::prepare(&a.model)?;
     let m = run::mesh(&p, &o)?;
     let vtk = output::VtkOptions {
         compress: a.vtk_compress,
     };
+    let picture = match &picture_target {
+        Some(_) => Some(output::plot::mesh_picture(&p.section, &m, size)?),
+        None => None,
+    };
     output::write_file_atomic(&target, &output::mesh_vtu_with(&m, &vtk)?)?;
     con.table(&report::mesh_report(&p.section, &m));
     con.warnings(&p.warnings());
     con.result(&format!("wrote {}", a.out.display()));
+    if let (Some((path, shown)), Some(svg)) = (&picture_target, &picture) {
+        output::write_file_atomic(path, svg)?;
+        con.result(&format!("wrote {}", shown.display()));
+    }
     con.caution();
     Ok(())
 }
@@ -278,6 +362,12 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
+    a.picture.only_with(a.plot)?;
+    let plot = if a.plot {
+        Some(a.picture.options()?)
+    } else {
+        None
+    };
     let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
     let mut matrix_out = match &a.export_matrix {
         Some(dir) => Some(matrix_dir(dir, &a.out, &a.model)?),
@@ -317,6 +407,8 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         },
         nodes_csv: !a.no_nodes_csv,
         case_fields: a.case_fields,
+        plot,
+        isotherms: a.isotherms,
     };
     xsheat::progress::stage("writing files");
     let set = output::solve_files_with(&solved, &files)?;
@@ -331,6 +423,22 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     }
     con.caution();
     Ok(())
+}
+
+/// The picture beside `mesh --out PATH`: PATH with the extension `.svg` (checked like PATH;
+/// refused when PATH itself ends in `.svg`). Returns the checked target and the path as shown.
+fn mesh_picture_path(out: &Path, model: &Path) -> xsheat::Result<(PathBuf, PathBuf)> {
+    if out
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("svg"))
+    {
+        return Err(Error::input(format!(
+            "mesh --out {}: with --plot the mesh picture is written beside it as .svg; give the mesh a .vtu name",
+            out.display()
+        )));
+    }
+    let shown = out.with_extension("svg");
+    Ok((output::check_out_file(&shown, &[model, out])?, shown))
 }
 
 /// The `--export-matrix` directory, checked: not the `--out` directory, neither inside the
@@ -360,6 +468,25 @@ fn report_failed_checks(solved: &run::Solved, con: &Console) {
         xsheat::progress::done();
         eprintln!("{label}: self-check {} failed: {}", c.name, c.detail);
     }
+}
+
+fn plot(a: PlotArgs, con: &Console) -> xsheat::Result<()> {
+    let options = a.picture.options()?;
+    let o = a.limit.options()?;
+    let mut out = output::ResultDir::check(&a.dir, &[&a.model])?;
+    let p = run::prepare(&a.model)?;
+    out.lock(con.wait)?;
+    let old = output::read_solve_set(&a.dir)?;
+    let solved = run::solve(p, &o)?;
+    if let Some(e) = run::failed_checks_error(&solved) {
+        con.caution();
+        return Err(e);
+    }
+    let set = output::replot_files(&solved, &old, &a.dir, &options)?;
+    let written = out.commit(&set)?;
+    con.result(&wrote(written.len(), &a.dir));
+    con.caution();
+    Ok(())
 }
 
 fn convergence(a: ConvergeArgs, con: &Console) -> xsheat::Result<()> {
@@ -525,6 +652,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         Command::Verify(a) => verification(a, &con),
         Command::Gridcheck(a) => gridcheck(a, &con),
         Command::Compare(a) => compare(a, &con),
+        Command::Plot(a) => plot(a, &con),
         Command::Sweep(a) => sweep(a, &con),
     }
 }

@@ -197,3 +197,36 @@ fn report_page_is_the_same_whatever_the_thread_count() {
     assert_eq!((one.code, two.code), (0, 0));
     assert_eq!(read(&out1, "report.html"), read(&out2, "report.html"));
 }
+
+#[test]
+fn report_page_with_plot_holds_the_picture_and_stays_wellformed() {
+    let model =
+        std::fs::read_to_string(common::repo_file("geometry/wall-junction.toml")).expect("demo");
+    let (run, _dir, out) = common::solve_text(&model, &["--plot", "--plot-size", "640x400"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let html = read(&out, "report.html");
+    let doc = roxmltree::Document::parse_with_options(
+        &html,
+        roxmltree::ParsingOptions {
+            allow_dtd: true,
+            ..Default::default()
+        },
+    )
+    .expect("report.html with the picture is well-formed XML");
+    let picture = section(&doc, "picture");
+    let svg = picture
+        .descendants()
+        .find(|n| n.has_tag_name("svg"))
+        .expect("inline svg");
+    assert_eq!(
+        svg.tag_name().namespace(),
+        Some("http://www.w3.org/2000/svg")
+    );
+    assert!(!html.contains("<script"));
+    for (i, _) in html.match_indices("://") {
+        let before = &html[..i];
+        let quote = before.rfind('"').expect("inside an attribute value");
+        let attribute = before[..quote].rsplit(' ').next().unwrap_or("");
+        assert!(attribute.starts_with("xmlns"), "a URL near byte {i}");
+    }
+}

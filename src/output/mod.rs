@@ -12,6 +12,8 @@
 //!   of the studies (convergence, verify, gridcheck, compare);
 //! * the report page `report.html` ([`report_html`], `report_page.rs`, on the polyglot HTML
 //!   writer of `html.rs`);
+//! * the pictures `field.svg` / `field.png` and the mesh picture ([`plot`]) and the isotherm
+//!   files `isotherms.geojson` / `isotherms.dxf` (`isotherms.rs`, [`picture_files`]);
 //! * the JSON files, each a typed serde record with `"schema": "xsheat.<kind>/<n>"`:
 //!   [`summary_json`] (`xsheat.summary/2`), [`convergence_json`] (`xsheat.convergence/2`) and
 //!   [`verify_json`] (`xsheat.verify/1`).
@@ -48,9 +50,13 @@ mod flows;
 mod fs;
 mod grid_vtk;
 mod html;
+mod isotherms;
 mod json;
 mod manifest;
 mod matrix;
+mod pictures;
+pub mod plot;
+mod replot;
 mod report_page;
 mod resultdir;
 mod solve;
@@ -61,7 +67,7 @@ mod tests;
 #[cfg(test)]
 mod tests_nested;
 mod verify;
-mod vtk;
+pub(crate) mod vtk;
 
 pub use cases::*;
 pub use converge::*;
@@ -70,9 +76,12 @@ pub use csv::*;
 pub use flows::*;
 pub use fs::*;
 pub use grid_vtk::*;
+pub use isotherms::*;
 pub use json::{ERROR_ESTIMATE_METHOD, UNIT_SUFFIXES};
 pub use manifest::*;
 pub use matrix::*;
+pub use pictures::*;
+pub use replot::*;
 pub use report_page::*;
 pub use resultdir::*;
 pub use solve::*;

@@ -13,6 +13,10 @@ pub struct SolveFileOptions {
     pub nodes_csv: bool,
     /// Write a field.vtu into each load case's directory too (`--case-fields`).
     pub case_fields: bool,
+    /// Draw field.svg and field.png (`--plot`); they come with the isotherm files.
+    pub plot: Option<output::plot::PlotOptions>,
+    /// Write isotherms.geojson and isotherms.dxf (`--isotherms`; implied by `plot`).
+    pub isotherms: bool,
 }
 
 impl Default for SolveFileOptions {
@@ -21,8 +25,28 @@ impl Default for SolveFileOptions {
             vtk: VtkOptions::default(),
             nodes_csv: true,
             case_fields: false,
+            plot: None,
+            isotherms: false,
         }
     }
+}
+
+/// field.vtu of a solve: the field, the error indicator, the load cases' temperatures and the
+/// material names, encoded with `vtk`.
+pub fn solve_field_vtu(sv: &Solved, vtk: &VtkOptions) -> Result<Vec<u8>> {
+    let s = sv.section();
+    let case_arrays = output::case_point_arrays(sv);
+    let case_points: Vec<(&str, &[f64])> =
+        case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
+    let material_names: Vec<&str> = s.materials.iter().map(|m| m.name.as_str()).collect();
+    output::field_vtu_named(
+        &sv.mesh,
+        &sv.results,
+        &material_names,
+        &[("error_indicator", &sv.error_estimate.indicator)],
+        &case_points,
+        vtk,
+    )
 }
 
 /// All files of a solve, in memory, ready to be committed atomically to a directory.
@@ -35,21 +59,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
     let started = std::time::Instant::now();
     let s = sv.section();
     let mut set = OutputSet::new();
-    let case_arrays = output::case_point_arrays(sv);
-    let case_points: Vec<(&str, &[f64])> =
-        case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
-    let material_names: Vec<&str> = s.materials.iter().map(|m| m.name.as_str()).collect();
-    set.add(
-        "field.vtu",
-        output::field_vtu_named(
-            &sv.mesh,
-            &sv.results,
-            &material_names,
-            &[("error_indicator", &sv.error_estimate.indicator)],
-            &case_points,
-            &options.vtk,
-        )?,
-    );
+    set.add("field.vtu", solve_field_vtu(sv, &options.vtk)?);
     set.add(
         "boundary.vtp",
         output::boundary_vtp(s, &sv.mesh, &sv.results, &options.vtk)?,
@@ -68,11 +78,30 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
         set.add(format!("line-{}.csv", l.name), output::line_csv(l)?);
     }
     output::add_case_files(&mut set, sv, options)?;
+    let (pictures, svg) = output::picture_files(sv, options.plot.as_ref(), options.isotherms)?;
+    for (name, bytes) in pictures {
+        set.add(name, bytes);
+    }
+    finish_solve_set(set, sv, svg.as_deref(), started)
+}
+
+/// Adds report.html (with `picture` inline) and summary.json (the manifest of every file) to
+/// the files of a solve; `started` is when encoding began (the `write_s` timing).
+pub(crate) fn finish_solve_set(
+    mut set: OutputSet,
+    sv: &Solved,
+    picture: Option<&str>,
+    started: std::time::Instant,
+) -> Result<OutputSet> {
+    let s = sv.section();
     let mut listed: Vec<String> = set.names().map(str::to_string).collect();
     listed.push(output::REPORT_FILE.to_string());
     listed.push(output::SUMMARY_FILE.to_string());
     listed.sort();
-    set.add(output::REPORT_FILE, output::report_html(sv, None, &listed));
+    set.add(
+        output::REPORT_FILE,
+        output::report_html(sv, picture, &listed),
+    );
     let model = s.resolved_json();
     let files = set.manifest();
     let timings = sv.timings.with_write(started.elapsed().as_secs_f64());

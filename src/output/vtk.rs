@@ -148,7 +148,7 @@ pub struct VtuPiece<'a> {
 }
 
 /// Standard base64 (RFC 4648, with `=` padding) of `bytes`, appended to `out`.
-fn base64_into(out: &mut Vec<u8>, bytes: &[u8]) {
+pub(crate) fn base64_into(out: &mut Vec<u8>, bytes: &[u8]) {
     const TABLE: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
     out.reserve(bytes.len().div_ceil(3) * 4);
     let mut chunks = bytes.chunks_exact(3);

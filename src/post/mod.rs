@@ -7,6 +7,7 @@
 //!   and convection edges) and the energy balance;
 //! - [`sample`]: probes and line profiles;
 //! - [`cuts`]: heat flow across cuts;
+//! - [`isotherms`]: isotherm levels and lines (marching triangles), for pictures and files;
 //! - [`estimate`]: the Zienkiewicz–Zhu error estimate.
 //!
 //! [`Locator`] (point location and nearest boundary point) is public for reuse by other
@@ -16,6 +17,7 @@ pub mod cuts;
 pub mod estimate;
 pub mod field;
 pub mod flows;
+pub mod isotherms;
 mod locate;
 pub mod sample;
 #[cfg(test)]
