@@ -125,6 +125,10 @@ struct SolveArgs {
     /// in DIR/field.vtu as `temperature_c:CASE` either way).
     #[arg(long)]
     case_fields: bool,
+    /// Iteration of a nonlinear model (conductivity tables, radiating boundaries): picard
+    /// (lagged conductivity, symmetric, Cholesky) or newton (full Jacobian, LU with tables).
+    #[arg(long, value_name = "METHOD", default_value = "picard")]
+    nonlinear: String,
 }
 
 #[derive(Args)]
@@ -271,6 +275,7 @@ fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
 
 fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
+    let method = xsheat::solve::nonlinear::Method::parse(&a.nonlinear)?;
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
@@ -280,7 +285,8 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         None => None,
     };
     let parse_started = std::time::Instant::now();
-    let p = run::prepare(&a.model)?;
+    let mut p = run::prepare(&a.model)?;
+    p.nonlinear = method;
     let parse_s = parse_started.elapsed().as_secs_f64();
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {

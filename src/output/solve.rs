@@ -90,6 +90,7 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
                 timings: &timings,
                 model: &model,
                 coupling: sv.coupling.as_ref(),
+                nonlinear: sv.nonlinear.as_ref(),
             },
             &files,
         )?,

@@ -29,6 +29,24 @@ fn kind_line(k: &BoundaryKind) -> String {
         BoundaryKind::Convection { h, ambient } => {
             format!("convection, h = {h} W/(m²·K), ambient {ambient} °C")
         }
+        BoundaryKind::Radiation {
+            emissivity,
+            surroundings,
+        } => format!("radiation, emissivity {emissivity}, surroundings {surroundings} °C"),
+    }
+}
+
+/// [`kind_line`] of boundary `id` with its radiation when a convective surface also radiates.
+fn boundary_line(s: &Section, id: usize) -> String {
+    let b = &s.boundaries[id];
+    match (b.kind, s.radiation(id)) {
+        (BoundaryKind::Convection { .. }, Some(r)) => format!(
+            "{}; radiation, emissivity {}, surroundings {} °C",
+            kind_line(&b.kind),
+            r.emissivity,
+            r.surroundings
+        ),
+        _ => kind_line(&b.kind),
     }
 }
 
@@ -118,7 +136,7 @@ fn boundaries_table(o: &mut String, s: &Section) {
     for (id, b) in s.boundaries.iter().enumerate() {
         t.add_row(vec![
             b.name.clone(),
-            kind_line(&b.kind),
+            boundary_line(s, id),
             fixed(boundary_length(s, id), 6),
         ]);
     }

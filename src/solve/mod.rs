@@ -19,6 +19,7 @@
 pub mod cg;
 pub mod cholesky;
 pub mod factorized;
+pub mod nonlinear;
 #[cfg(test)]
 mod tests;
 
