@@ -50,6 +50,10 @@ struct MaterialOut<'a> {
     id: usize,
     name: &'a str,
     conductivity_w_per_m_k: f64,
+    /// The conductivity table `[[T °C, k W/(m·K)], …]` of a temperature-dependent material
+    /// (then `conductivity_w_per_m_k` is k at the middle of its range).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    conductivity_table_c_w_per_m_k: Option<&'a [[f64; 2]]>,
     heat_source_w_per_m3: f64,
     /// Meshed area (null when the material has no triangle on the mesh).
     area_m2: Option<f64>,
@@ -311,6 +315,9 @@ fn materials<'a>(section: &'a Section, r: &'a Results) -> Vec<MaterialOut<'a>> {
                 id: m.id,
                 name: &m.name,
                 conductivity_w_per_m_k: m.conductivity,
+                conductivity_table_c_w_per_m_k: section
+                    .conductivity_table(m.id)
+                    .map(|t| t.points.as_slice()),
                 heat_source_w_per_m3: m.heat_source,
                 area_m2: res.map(|x| x.area),
                 heat_generated_w_per_m: res.map(|x| x.heat_generated),

@@ -101,7 +101,17 @@ fn materials_table(o: &mut String, s: &Section) {
         t.add_row(vec![
             m.id.to_string(),
             m.name.clone(),
-            m.conductivity.to_string(),
+            match s.conductivity_table(m.id) {
+                Some(t) => format!(
+                    "table (°C → k): {}",
+                    t.points
+                        .iter()
+                        .map(|p| format!("{} → {}", p[0], p[1]))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                None => m.conductivity.to_string(),
+            },
             m.heat_source.to_string(),
         ]);
     }
