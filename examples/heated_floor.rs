@@ -4,7 +4,7 @@ use xsheat::model::{BoundaryFile, CircleFile, MaterialFile, ModelFile, RingFile}
 
 fn main() -> Result<(), xsheat::Error> {
     let mat = |k: f64| MaterialFile {
-        conductivity: k,
+        conductivity: k.into(),
         ..Default::default()
     };
     let fixed = |t: f64| BoundaryFile {

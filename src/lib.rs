@@ -43,7 +43,7 @@ pub use error::{Error, Result};
 
 /// The short caution printed with every solve and written into every summary.
 pub const CAUTION: &str = "Results depend on the inputs and the model assumptions (steady state, \
-2D section, linear conduction, the boundary conditions given). They must be reviewed by a \
+2D section, conduction by Fourier's law, the conductivities and boundary conditions as given). They must be reviewed by a \
 qualified engineer under local codes and licensed practice before use.";
 
 /// The tool's version, as written into summary.json.

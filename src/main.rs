@@ -190,6 +190,10 @@ struct SolveArgs {
     /// Write the isotherms as isotherms.geojson and isotherms.dxf (also written with --plot).
     #[arg(long)]
     isotherms: bool,
+    /// Iteration of a nonlinear model (conductivity tables, radiating boundaries): picard
+    /// (lagged conductivity, symmetric, Cholesky) or newton (full Jacobian, LU with tables).
+    #[arg(long, value_name = "METHOD", default_value = "picard")]
+    nonlinear: String,
 }
 
 #[derive(Args)]
@@ -359,6 +363,7 @@ fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
 
 fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
+    let method = xsheat::solve::nonlinear::Method::parse(&a.nonlinear)?;
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
@@ -374,7 +379,8 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
         None => None,
     };
     let parse_started = std::time::Instant::now();
-    let p = run::prepare(&a.model)?;
+    let mut p = run::prepare(&a.model)?;
+    p.nonlinear = method;
     let parse_s = parse_started.elapsed().as_secs_f64();
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {

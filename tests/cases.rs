@@ -107,7 +107,7 @@ fn edited(file: &ModelFile, i: usize) -> ModelFile {
             .get_mut(name)
             .expect("the case names a material");
         if let Some(k) = v.conductivity {
-            target.conductivity = k;
+            target.conductivity = k.into();
         }
         if v.heat_source.is_some() {
             target.heat_source = v.heat_source;

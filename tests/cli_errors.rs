@@ -391,3 +391,182 @@ fn mesh_command_refuses_bad_input_without_writing() {
     assert_eq!(o.code, 2);
     assert!(!out.exists());
 }
+
+/// Bad values of the nonlinear keys (conductivity tables, radiation) and the linear-only
+/// features in a nonlinear model: exit 2, the item named, nothing written.
+#[test]
+fn bad_nonlinear_inputs_exit_2_name_the_item_and_write_nothing() {
+    let table = |t: &str| {
+        replace(
+            "conductivity = 1.7",
+            &format!("conductivity = {{ table = {t} }}"),
+        )
+    };
+    let top = |keys: &str| {
+        replace(
+            "kind = \"convection\"\nh = 15.0\nambient = 25.0",
+            &format!("kind = \"convection\"\nh = 15.0\nambient = 25.0\n{keys}"),
+        )
+    };
+    let radiation = |keys: &str| {
+        replace(
+            "[boundaries.left]\nkind = \"insulated\"",
+            &format!("[boundaries.left]\nkind = \"radiation\"\n{keys}"),
+        )
+    };
+    let radiating = top("emissivity = 0.9");
+    let cases: Vec<(&str, String, &[&str])> = vec![
+        (
+            "table-not-increasing",
+            table("[[0.0, 1.0], [20.0, 1.2], [20.0, 1.3]]"),
+            &["materials.concrete", "point 2", "strictly increasing"],
+        ),
+        (
+            "table-decreasing",
+            table("[[50.0, 1.0], [20.0, 1.2]]"),
+            &["materials.concrete", "point 1", "strictly increasing"],
+        ),
+        (
+            "table-k-zero",
+            table("[[0.0, 1.0], [20.0, 0.0]]"),
+            &["materials.concrete", "point 1", "conductivity"],
+        ),
+        (
+            "table-k-negative",
+            table("[[0.0, -1.0], [20.0, 1.0]]"),
+            &["materials.concrete", "point 0", "conductivity"],
+        ),
+        (
+            "table-one-point",
+            table("[[0.0, 1.0]]"),
+            &["materials.concrete", "1 points", "between 2"],
+        ),
+        (
+            "table-nan-temperature",
+            table("[[nan, 1.0], [20.0, 1.2]]"),
+            &["materials.concrete", "point 0", "not a finite number"],
+        ),
+        (
+            "table-nan-k",
+            table("[[0.0, 1.0], [20.0, nan]]"),
+            &["materials.concrete", "point 1", "conductivity"],
+        ),
+        (
+            "table-below-absolute-zero",
+            table("[[-300.0, 1.0], [20.0, 1.2]]"),
+            &["materials.concrete", "point 0", "absolute zero"],
+        ),
+        (
+            "table-three-numbers",
+            table("[[0.0, 1.0, 2.0], [20.0, 1.2]]"),
+            &["exactly two numbers"],
+        ),
+        (
+            "table-unknown-key",
+            replace(
+                "conductivity = 1.7",
+                "conductivity = { tabel = [[0.0, 1.0]] }",
+            ),
+            &["tabel", "table"],
+        ),
+        (
+            "emissivity-zero",
+            top("emissivity = 0.0"),
+            &["boundaries.top", "emissivity", "(0, 1]"],
+        ),
+        (
+            "emissivity-above-one",
+            radiation("emissivity = 1.5\nsurroundings = 10.0"),
+            &["boundaries.left", "emissivity", "(0, 1]"],
+        ),
+        (
+            "emissivity-nan",
+            top("emissivity = nan"),
+            &["boundaries.top", "emissivity", "(0, 1]"],
+        ),
+        (
+            "surroundings-nan",
+            top("emissivity = 0.9\nsurroundings = nan"),
+            &["boundaries.top: surroundings", "not a finite number"],
+        ),
+        (
+            "surroundings-below-absolute-zero",
+            radiation("emissivity = 0.9\nsurroundings = -300.0"),
+            &["boundaries.left: surroundings", "absolute zero"],
+        ),
+        (
+            "radiation-without-emissivity",
+            radiation("surroundings = 10.0"),
+            &["boundaries.left", "needs `emissivity`"],
+        ),
+        (
+            "radiation-without-surroundings",
+            radiation("emissivity = 0.9"),
+            &["boundaries.left", "needs `surroundings`"],
+        ),
+        (
+            "radiation-with-h",
+            radiation("emissivity = 0.9\nsurroundings = 10.0\nh = 3.0"),
+            &["boundaries.left", "`h`", "\"radiation\""],
+        ),
+        (
+            "surroundings-without-emissivity",
+            top("surroundings = 10.0"),
+            &["boundaries.top", "without `emissivity`"],
+        ),
+        (
+            "emissivity-on-fixed",
+            replace(
+                "kind = \"fixed\"\ntemperature = 10.0",
+                "kind = \"fixed\"\ntemperature = 10.0\nemissivity = 0.9",
+            ),
+            &["boundaries.base", "`emissivity`", "\"fixed\""],
+        ),
+        (
+            "cases-in-nonlinear-model",
+            format!(
+                "{radiating}\n[[cases]]\nname = \"winter\"\n[cases.boundaries.top]\nambient = -5.0\n"
+            ),
+            &["cases", "nonlinear"],
+        ),
+        (
+            "environments-in-nonlinear-model",
+            format!(
+                "{}\n[environments]\nin = [\"top\"]\n",
+                table("[[0.0, 1.0], [20.0, 1.2]]")
+            ),
+            &["environments", "nonlinear"],
+        ),
+    ];
+    for (case, model, needles) in cases {
+        let (code, err, _dir, out) = run_solve(&model);
+        assert_eq!(code, 2, "case {case}: exit code {code}, stderr: {err}");
+        for n in needles {
+            assert!(err.contains(n), "case {case}: stderr lacks {n:?}: {err}");
+        }
+        assert!(!out.exists(), "case {case}: output directory was created");
+    }
+    // An unknown iteration method and the grid check of a nonlinear model are refused too.
+    let (o, _d, out) = common::solve_text(&radiating, &["--nonlinear", "secant"]);
+    assert_eq!(o.code, 2, "{}", o.stderr);
+    assert!(o.stderr.contains("--nonlinear secant"), "{}", o.stderr);
+    assert!(!out.exists());
+    let dir = tmp();
+    let model = common::write(dir.path(), "m.toml", &radiating);
+    let grid_out = dir.path().join("g");
+    let o = xsheat([
+        OsStr::new("gridcheck"),
+        model.as_os_str(),
+        OsStr::new("--spacing"),
+        OsStr::new("0.5"),
+        OsStr::new("--out"),
+        grid_out.as_os_str(),
+    ]);
+    assert_eq!(o.code, 2, "{}", o.stderr);
+    assert!(
+        o.stderr.contains("grid model") && o.stderr.contains("nonlinear"),
+        "{}",
+        o.stderr
+    );
+    assert!(!grid_out.exists());
+}

@@ -167,6 +167,7 @@ fn an_overflowed_balance_is_not_closed() {
         mean_temperature: 0.0,
         min_temperature: 0.0,
         max_temperature: 0.0,
+        radiation_coefficient: None,
     };
     let e = post::flows::EnergyBalance::of(&[b(1.7e308), b(1.7e308)], &[], 1.0);
     assert!(e.imbalance_relative.is_nan(), "{e:?}");

@@ -39,6 +39,7 @@ impl LoadCase {
                 BoundaryKind::Insulated => 0.0,
                 BoundaryKind::Flux { flux } => flux,
                 BoundaryKind::Convection { ambient, .. } => ambient,
+                BoundaryKind::Radiation { .. } => 0.0,
             })
             .collect();
         let heat_source = section.materials.iter().map(|m| m.heat_source).collect();
@@ -153,7 +154,9 @@ fn add_edge_loads(vector: &mut [f64], section: &Section, mesh: &Mesh, case: &Loa
         let per_node = match section.boundaries[id].kind {
             BoundaryKind::Flux { .. } => case.boundary_value[id],
             BoundaryKind::Convection { h, .. } => h * case.boundary_value[id],
-            BoundaryKind::Fixed { .. } | BoundaryKind::Insulated => continue,
+            BoundaryKind::Fixed { .. }
+            | BoundaryKind::Insulated
+            | BoundaryKind::Radiation { .. } => continue,
         };
         let l = mesh.edge_length(e);
         for &v in &e.nodes {

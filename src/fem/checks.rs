@@ -71,7 +71,9 @@ pub fn check_determined(section: &Section, mesh: &Mesh) -> Result<()> {
         e.boundary.is_some_and(|id| {
             matches!(
                 section.boundaries[id].kind,
-                BoundaryKind::Fixed { .. } | BoundaryKind::Convection { .. }
+                BoundaryKind::Fixed { .. }
+                    | BoundaryKind::Convection { .. }
+                    | BoundaryKind::Radiation { .. }
             )
         })
     };

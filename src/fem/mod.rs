@@ -20,6 +20,7 @@
 pub mod assemble;
 pub mod checks;
 pub mod element;
+pub mod nonlinear;
 pub mod pattern;
 #[cfg(test)]
 mod tests;
@@ -51,9 +52,20 @@ pub struct System {
     pub cell_source: Vec<f64>,
     /// Conductivity per material id.
     pub conductivity: Vec<Conductivity>,
+    /// Conductivity per triangle where it depends on the temperature (a nonlinear model: each
+    /// triangle's k at its mean temperature, `fem::nonlinear`); `None`: per material.
+    pub cell_conductivity: Option<Vec<Conductivity>>,
 }
 
 impl System {
+    /// The conductivity of triangle `t` of `mesh` (the mesh this system was assembled on).
+    pub fn triangle_conductivity(&self, mesh: &Mesh, t: usize) -> &Conductivity {
+        match &self.cell_conductivity {
+            Some(c) => &c[t],
+            None => &self.conductivity[mesh.material[t]],
+        }
+    }
+
     /// Number of nodes (order of the matrix).
     pub fn node_count(&self) -> usize {
         self.load.len()
@@ -110,5 +122,6 @@ pub fn assemble(section: &Section, mesh: &Mesh) -> Result<System> {
         fixed: load.fixed,
         cell_source: load.cell_source,
         conductivity,
+        cell_conductivity: None,
     })
 }

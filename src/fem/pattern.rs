@@ -66,7 +66,7 @@ pub fn csr_pattern(mesh: &Mesh) -> (Vec<usize>, Vec<usize>) {
 
 /// Position of column `col` in row `row` of the pattern (present by construction).
 #[inline]
-fn position(indptr: &[usize], indices: &[usize], row: usize, col: usize) -> usize {
+pub(crate) fn position(indptr: &[usize], indices: &[usize], row: usize, col: usize) -> usize {
     let lo = indptr[row];
     let slice = &indices[lo..indptr[row + 1]];
     match slice.iter().position(|&c| c == col) {

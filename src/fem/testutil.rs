@@ -124,6 +124,10 @@ pub fn rectangle_section(
             BoundaryKind::Convection { h, ambient } => {
                 text += &format!("h = {h:?}\nambient = {ambient:?}\n")
             }
+            BoundaryKind::Radiation {
+                emissivity,
+                surroundings,
+            } => text += &format!("emissivity = {emissivity:?}\nsurroundings = {surroundings:?}\n"),
         }
     }
     let section = model::validate(&model::parse(&text).expect("test model parses"))

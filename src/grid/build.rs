@@ -555,6 +555,11 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             "grid model: spacing h = {h} m must be a positive finite number"
         )));
     }
+    if section.is_nonlinear() {
+        return Err(Error::input(
+            "grid model: not available for a nonlinear model (a conductivity table or a radiating boundary); the grid check is linear — use `converge` to check the element model's discretisation",
+        ));
+    }
     // Ring checks (crossings, holes inside the outline, ...) are those of the element model.
     geometry::build(section)?;
     let mut b = Builder {

@@ -206,7 +206,9 @@ impl GridModel {
                             f(b, h * s.length * (ambient - t))
                         }
                         BoundaryKind::Flux { flux } => f(b, flux * s.length),
-                        BoundaryKind::Insulated | BoundaryKind::Fixed { .. } => {}
+                        BoundaryKind::Insulated
+                        | BoundaryKind::Fixed { .. }
+                        | BoundaryKind::Radiation { .. } => {}
                     }
                 }
             }

@@ -222,7 +222,7 @@ fn case_boundary(
     let base = boundaries[id].kind;
     let allowed: &[&str] = match base {
         BoundaryKind::Fixed { .. } => &["temperature"],
-        BoundaryKind::Insulated => &[],
+        BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => &[],
         BoundaryKind::Flux { .. } => &["flux"],
         BoundaryKind::Convection { .. } => &["h", "ambient"],
     };
@@ -252,6 +252,7 @@ fn case_boundary(
             BoundaryKind::Fixed { temperature: t }
         }
         BoundaryKind::Insulated => BoundaryKind::Insulated,
+        BoundaryKind::Radiation { .. } => base,
         BoundaryKind::Flux { flux } => {
             let q = b.flux.unwrap_or(flux);
             check_bounded(q, MAX_ABS_FLUX, &format!("{item}: flux"), "W/m²")?;
@@ -315,7 +316,7 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                     let mut f = CaseBoundaryFile::default();
                     match b.kind {
                         BoundaryKind::Fixed { temperature } => f.temperature = Some(temperature),
-                        BoundaryKind::Insulated => {}
+                        BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
                         BoundaryKind::Flux { flux } => f.flux = Some(flux),
                         BoundaryKind::Convection { h, ambient } => {
                             f.h = Some(h);

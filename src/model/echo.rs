@@ -31,7 +31,7 @@ impl Section {
                 .iter()
                 .map(|m| {
                     let file = MaterialFile {
-                        conductivity: m.conductivity,
+                        conductivity: self.conductivity_file(m.id),
                         heat_source: Some(m.heat_source),
                         max_area: m.max_area,
                     };
@@ -48,7 +48,8 @@ impl Section {
             boundaries: self
                 .boundaries
                 .iter()
-                .map(|b| (b.name.clone(), boundary_file(b)))
+                .enumerate()
+                .map(|(id, b)| (b.name.clone(), boundary_file(b, self.radiation(id))))
                 .collect(),
             probes: self
                 .probes
@@ -103,8 +104,8 @@ impl Section {
     }
 }
 
-/// One boundary as written: its kind's name and values, and its size.
-fn boundary_file(b: &Boundary) -> BoundaryFile {
+/// One boundary as written: its kind's name and values, its radiation, and its size.
+fn boundary_file(b: &Boundary, radiation: Option<super::Radiation>) -> BoundaryFile {
     let mut file = BoundaryFile {
         kind: b.kind.name().to_string(),
         size: b.size,
@@ -118,6 +119,11 @@ fn boundary_file(b: &Boundary) -> BoundaryFile {
             file.h = Some(h);
             file.ambient = Some(ambient);
         }
+        BoundaryKind::Radiation { .. } => {}
+    }
+    if let Some(r) = radiation {
+        file.emissivity = Some(r.emissivity);
+        file.surroundings = Some(r.surroundings);
     }
     file
 }

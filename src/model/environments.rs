@@ -435,6 +435,8 @@ impl Section {
             b.kind = match b.kind {
                 BoundaryKind::Fixed { .. } => BoundaryKind::Fixed { temperature: 0.0 },
                 BoundaryKind::Insulated => BoundaryKind::Insulated,
+                // Refused in a model with environments (model/nonlinear.rs).
+                BoundaryKind::Radiation { .. } => b.kind,
                 BoundaryKind::Flux { .. } => BoundaryKind::Flux { flux: 0.0 },
                 BoundaryKind::Convection { h, .. } => BoundaryKind::Convection {
                     h,

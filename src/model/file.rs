@@ -70,8 +70,8 @@ pub struct MeshFile {
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct MaterialFile {
-    /// W/(m·K)
-    pub conductivity: f64,
+    /// W/(m·K): a number, or `{ table = [[T, k], …] }` (°C, W/(m·K)).
+    pub conductivity: super::ConductivityFile,
     /// W/m³
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub heat_source: Option<f64>,
@@ -125,7 +125,7 @@ pub struct CircleFile {
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct BoundaryFile {
-    /// `fixed`, `insulated`, `flux` or `convection`.
+    /// `fixed`, `insulated`, `flux`, `convection` or `radiation`.
     pub kind: String,
     /// Fixed temperature, °C.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -142,6 +142,12 @@ pub struct BoundaryFile {
     /// m: target edge length of the mesh along this boundary (local size control).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub size: Option<f64>,
+    /// Emissivity of a radiating surface (kind `radiation`, or `convection` with radiation).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub emissivity: Option<f64>,
+    /// Temperature of the radiating surroundings, °C (default for `convection`: the ambient).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub surroundings: Option<f64>,
 }
 
 /// `[[probes]]` as written.
@@ -173,7 +179,7 @@ pub struct LineFile {
 
 /// A point as written: exactly two numbers `[x, y]` (serde's `[f64; 2]` would ignore extra
 /// elements). The error names the key.
-struct Point2([f64; 2]);
+pub(super) struct Point2(pub(super) [f64; 2]);
 
 /// Reads one point for the key `key`.
 struct PointVisitor(&'static str);

@@ -10,6 +10,7 @@ mod cuts;
 mod echo;
 mod environments;
 mod file;
+mod nonlinear;
 mod ring;
 mod suggest;
 mod validate;
@@ -29,6 +30,9 @@ pub use environments::{
 pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
     load, parse,
+};
+pub use nonlinear::{
+    ConductivityFile, ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN,
 };
 pub use ring::{circle_segments, ring_circle_segments};
 pub use suggest::suggest;
@@ -96,16 +100,25 @@ pub enum BoundaryKind {
         /// Ambient temperature, °C.
         ambient: f64,
     },
+    /// Surface radiation to surroundings, `q = ε·σ·(T_s⁴ − T⁴)` (kelvin) into the section.
+    Radiation {
+        /// Emissivity, 0 < ε ≤ 1.
+        emissivity: f64,
+        /// Temperature of the surroundings, °C.
+        surroundings: f64,
+    },
 }
 
 impl BoundaryKind {
-    /// The kind as written in the model file: `fixed`, `insulated`, `flux`, `convection`.
+    /// The kind as written in the model file: `fixed`, `insulated`, `flux`, `convection`,
+    /// `radiation`.
     pub fn name(&self) -> &'static str {
         match self {
             BoundaryKind::Fixed { .. } => "fixed",
             BoundaryKind::Insulated => "insulated",
             BoundaryKind::Flux { .. } => "flux",
             BoundaryKind::Convection { .. } => "convection",
+            BoundaryKind::Radiation { .. } => "radiation",
         }
     }
 }
@@ -129,7 +142,8 @@ pub struct Material {
     pub id: usize,
     /// Name as in `[materials.NAME]`.
     pub name: String,
-    /// W/(m·K)
+    /// W/(m·K); for a material with a conductivity table, k at the middle of the table's
+    /// temperature range (the table itself is [`Section::conductivity_table`]).
     pub conductivity: f64,
     /// W/m³
     pub heat_source: f64,
@@ -258,6 +272,8 @@ pub struct Section {
     pub cuts: Vec<Cut>,
     /// Environments and ψ declarations (`[environments]`, `[[psi]]`).
     pub environments: Environments,
+    /// Conductivity tables and radiating boundaries (empty tables for a linear model).
+    pub nonlinear: Nonlinear,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

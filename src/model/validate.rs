@@ -8,11 +8,11 @@ use super::ring::ring_circle_segments;
 use super::ring::{RingContext, build_ring, raw_area};
 use super::suggest::{did_you_mean, known_list, suggest};
 use super::{
-    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, DEFAULT_MIN_ANGLE, Line, MAX_ABS_FLUX,
-    MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS, MAX_CONDUCTIVITY, MAX_COORD,
-    MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE, MAX_NAME_CHARS, MAX_RING_POINTS,
-    MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings, ModelFile, Probe, Region, Ring,
-    RingFile, Section, Validated,
+    ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, ConductivityFile, DEFAULT_MIN_ANGLE,
+    Line, MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS,
+    MAX_CONDUCTIVITY, MAX_COORD, MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE,
+    MAX_NAME_CHARS, MAX_RING_POINTS, MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings,
+    ModelFile, Probe, Region, Ring, RingFile, Section, Validated,
 };
 use crate::error::{Error, Result, printable};
 use std::collections::BTreeMap;
@@ -22,8 +22,10 @@ use std::collections::BTreeMap;
 pub fn validate(file: &ModelFile) -> Result<Section> {
     let mut warnings = Vec::new();
     let title = validate_title(file)?;
-    let (materials, material_ids) = validate_materials(file)?;
-    let (boundaries, boundary_ids) = validate_boundaries(file)?;
+    let (materials, material_ids, tables) = validate_materials(file)?;
+    let (boundaries, boundary_ids, radiation) = validate_boundaries(file)?;
+    let nonlinear = super::Nonlinear { tables, radiation };
+    super::nonlinear::check_linear_only(file, &nonlinear)?;
     let outline_file = file.outline.as_ref().ok_or_else(|| {
         Error::input("outline: missing [outline] table (the section's outer ring)")
     })?;
@@ -62,6 +64,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         cases,
         cuts,
         environments,
+        nonlinear,
         warnings,
         validated: Validated,
     })
@@ -195,8 +198,9 @@ pub(super) fn check_temperature(v: f64, what: &str) -> Result<()> {
     Ok(())
 }
 
-/// Materials sorted by name (BTreeMap order), id = index, with the name → id table.
-fn validate_materials(file: &ModelFile) -> Result<(Vec<Material>, BTreeMap<String, usize>)> {
+/// Materials sorted by name (BTreeMap order), id = index, with the name → id table and the
+/// conductivity table of each material that has one.
+fn validate_materials(file: &ModelFile) -> Result<MaterialTables> {
     if file.materials.is_empty() {
         return Err(Error::input(
             "materials: no material defined; add e.g. [materials.concrete] with conductivity = 1.7",
@@ -205,11 +209,22 @@ fn validate_materials(file: &ModelFile) -> Result<(Vec<Material>, BTreeMap<Strin
     let mut materials = Vec::new();
     let mut ids = BTreeMap::new();
     let mut seen = BTreeMap::new();
+    let mut tables = Vec::new();
     for (i, (name, m)) in file.materials.iter().enumerate() {
         let label = format!("materials.{}", printable(name));
         check_name(&label, name, "material")?;
         check_case_unique(&label, name, "material", &mut seen)?;
-        check_conductivity(&format!("materials.{name}"), m.conductivity)?;
+        let (conductivity, table) = match &m.conductivity {
+            ConductivityFile::Constant(k) => {
+                check_conductivity(&format!("materials.{name}"), *k)?;
+                (*k, None)
+            }
+            ConductivityFile::Table { table } => {
+                let t = super::nonlinear::validate_table(&format!("materials.{name}"), table)?;
+                (t.middle(), Some(t))
+            }
+        };
+        tables.push(table);
         let q = m.heat_source.unwrap_or(0.0);
         check_bounded(
             q,
@@ -228,13 +243,27 @@ fn validate_materials(file: &ModelFile) -> Result<(Vec<Material>, BTreeMap<Strin
         materials.push(Material {
             id: i,
             name: name.clone(),
-            conductivity: m.conductivity,
+            conductivity,
             heat_source: q,
             max_area: m.max_area,
         });
     }
-    Ok((materials, ids))
+    Ok((materials, ids, tables))
 }
+
+/// Materials, the name → id table and the conductivity table per material id.
+type MaterialTables = (
+    Vec<Material>,
+    BTreeMap<String, usize>,
+    Vec<Option<super::ConductivityTable>>,
+);
+
+/// Boundaries, the name → id table and the radiation per boundary id.
+type BoundaryTables = (
+    Vec<Boundary>,
+    BTreeMap<String, usize>,
+    Vec<Option<super::Radiation>>,
+);
 
 /// Material id named by a ring's `material`, or an error listing the defined ones.
 fn material_of(
@@ -256,8 +285,9 @@ fn material_of(
     })
 }
 
-/// Boundaries sorted by name, id = index, with the name → id table.
-fn validate_boundaries(file: &ModelFile) -> Result<(Vec<Boundary>, BTreeMap<String, usize>)> {
+/// Boundaries sorted by name, id = index, with the name → id table and the radiation of each.
+fn validate_boundaries(file: &ModelFile) -> Result<BoundaryTables> {
+    let mut radiation = Vec::new();
     let mut boundaries = Vec::new();
     let mut ids = BTreeMap::new();
     let mut seen = BTreeMap::new();
@@ -266,6 +296,7 @@ fn validate_boundaries(file: &ModelFile) -> Result<(Vec<Boundary>, BTreeMap<Stri
         check_name(&label, name, "boundary")?;
         check_case_unique(&label, name, "boundary", &mut seen)?;
         let kind = validate_boundary(name, b)?;
+        radiation.push(super::nonlinear::boundary_radiation(name, b, &kind)?);
         if let Some(h) = b.size
             && (!h.is_finite() || h <= 0.0)
         {
@@ -280,7 +311,7 @@ fn validate_boundaries(file: &ModelFile) -> Result<(Vec<Boundary>, BTreeMap<Stri
             size: b.size,
         });
     }
-    Ok((boundaries, ids))
+    Ok((boundaries, ids, radiation))
 }
 
 /// A key given that the boundary's kind does not take is an error naming it.
@@ -339,15 +370,28 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             check_temperature(a, &format!("boundaries.{name}: ambient"))?;
             BoundaryKind::Convection { h, ambient: a }
         }
+        "radiation" => {
+            check_kind_keys(name, b, &[])?;
+            let r = super::nonlinear::radiation_keys(name, b, None, true)?;
+            let r = r.ok_or_else(|| {
+                Error::input(format!(
+                    "boundaries.{name}: kind \"radiation\" needs `emissivity`"
+                ))
+            })?;
+            BoundaryKind::Radiation {
+                emissivity: r.emissivity,
+                surroundings: r.surroundings,
+            }
+        }
         other => {
             let hint = suggest(
                 other,
-                ["fixed", "insulated", "flux", "convection"].into_iter(),
+                ["fixed", "insulated", "flux", "convection", "radiation"].into_iter(),
             )
             .map(|s| format!("; did you mean \"{s}\"?"))
             .unwrap_or_default();
             return Err(Error::input(format!(
-                "boundaries.{name}: unknown kind \"{}\" (one of: fixed, insulated, flux, convection){hint}",
+                "boundaries.{name}: unknown kind \"{}\" (one of: fixed, insulated, flux, convection, radiation){hint}",
                 printable(other)
             )));
         }

@@ -129,7 +129,7 @@ fn overrides<'a>(sv: &'a Solved, c: &'a CaseSolved) -> Vec<OverrideOut<'a>> {
         let (mut t, mut q, mut h, mut a) = (None, None, None, None);
         match b.kind {
             BoundaryKind::Fixed { temperature } => t = Some(temperature),
-            BoundaryKind::Insulated => {}
+            BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
             BoundaryKind::Flux { flux } => q = Some(flux),
             BoundaryKind::Convection { h: hh, ambient } => (h, a) = (Some(hh), Some(ambient)),
         }

@@ -99,20 +99,30 @@ pub fn line_csv(line: &LineResult) -> Result<Vec<u8>> {
 }
 
 /// `name,kind,length_m,heat_flow_w_per_m,mean_temperature_c,min_temperature_c,
-/// max_temperature_c` — heat flow per metre of section depth, positive into the section.
+/// max_temperature_c` — heat flow per metre of section depth, positive into the section —
+/// and, when some boundary radiates, `radiation_coefficient_w_per_m2_k` (the mean linearised
+/// coefficient h_r; empty for boundaries that do not radiate).
 pub fn boundaries_csv(results: &Results) -> Result<Vec<u8>> {
+    let radiates = results
+        .boundaries
+        .iter()
+        .any(|b| b.radiation_coefficient.is_some());
+    let mut header = vec![
+        "name",
+        "kind",
+        "length_m",
+        "heat_flow_w_per_m",
+        "mean_temperature_c",
+        "min_temperature_c",
+        "max_temperature_c",
+    ];
+    if radiates {
+        header.push("radiation_coefficient_w_per_m2_k");
+    }
     csv_bytes(
-        [
-            "name",
-            "kind",
-            "length_m",
-            "heat_flow_w_per_m",
-            "mean_temperature_c",
-            "min_temperature_c",
-            "max_temperature_c",
-        ],
+        header,
         results.boundaries.iter().map(|b| {
-            [
+            let mut row = vec![
                 b.name.clone(),
                 b.kind.to_string(),
                 format_f64(b.length),
@@ -120,7 +130,11 @@ pub fn boundaries_csv(results: &Results) -> Result<Vec<u8>> {
                 format_f64(b.mean_temperature),
                 format_f64(b.min_temperature),
                 format_f64(b.max_temperature),
-            ]
+            ];
+            if radiates {
+                row.push(b.radiation_coefficient.map_or(String::new(), format_f64));
+            }
+            row
         }),
     )
 }

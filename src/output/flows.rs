@@ -94,11 +94,19 @@ pub fn materials_csv(results: &Results) -> Result<Vec<u8>> {
 fn edge_normal_flux(section: &Section, mesh: &Mesh, results: &Results, e: usize) -> f64 {
     let edge = &mesh.boundary_edges[e];
     let [a, b] = edge.nodes;
-    let mean = 0.5 * (results.temperature[a] + results.temperature[b]);
+    let (ta, tb) = (results.temperature[a], results.temperature[b]);
+    let mean = 0.5 * (ta + tb);
+    let radiated = edge
+        .boundary
+        .and_then(|id| section.radiation(id))
+        .map_or(0.0, |r| {
+            crate::fem::nonlinear::radiation_edge(&r, ta, tb).mean_flux
+        });
     match edge.boundary.map(|id| section.boundaries[id].kind) {
         None | Some(BoundaryKind::Insulated) => 0.0,
         Some(BoundaryKind::Flux { flux }) => flux,
-        Some(BoundaryKind::Convection { h, ambient }) => h * (ambient - mean),
+        Some(BoundaryKind::Radiation { .. }) => radiated,
+        Some(BoundaryKind::Convection { h, ambient }) => h * (ambient - mean) + radiated,
         Some(BoundaryKind::Fixed { .. }) => {
             let (pa, pb) = (mesh.nodes[a], mesh.nodes[b]);
             let l = crate::geom::distance(pa, pb);

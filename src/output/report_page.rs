@@ -164,6 +164,14 @@ fn condition(kind: &BoundaryKind) -> String {
             fixed_short(h),
             fixed_short(ambient)
         ),
+        BoundaryKind::Radiation {
+            emissivity,
+            surroundings,
+        } => format!(
+            "emissivity {}, surroundings {} °C",
+            fixed_short(emissivity),
+            fixed_short(surroundings)
+        ),
     }
 }
 
@@ -203,7 +211,18 @@ fn model_section(page: &mut Page, sv: &Solved) {
     for b in &sv.results.boundaries {
         let cond = s.boundaries.iter().find(|x| x.name == b.name).map_or_else(
             || "no heat flow (edges without a name)".to_string(),
-            |x| condition(&x.kind),
+            |x| {
+                let id = s.boundaries.iter().position(|y| y.name == x.name);
+                match (x.kind, id.and_then(|i| s.radiation(i))) {
+                    (BoundaryKind::Convection { .. }, Some(r)) => format!(
+                        "{}; radiation: emissivity {}, surroundings {} °C",
+                        condition(&x.kind),
+                        fixed_short(r.emissivity),
+                        fixed_short(r.surroundings)
+                    ),
+                    _ => condition(&x.kind),
+                }
+            },
         );
         t.row(vec![
             b.name.clone(),

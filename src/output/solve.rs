@@ -119,6 +119,7 @@ pub(crate) fn finish_solve_set(
                 timings: &timings,
                 model: &model,
                 coupling: sv.coupling.as_ref(),
+                nonlinear: sv.nonlinear.as_ref(),
             },
             &files,
         )?,

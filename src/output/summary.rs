@@ -40,6 +40,9 @@ pub struct SummaryInputs<'a> {
     /// Coupling coefficients, ψ and temperature factors (`None` without environments: then
     /// no such keys).
     pub coupling: Option<&'a crate::run::coupling::Coupling>,
+    /// The nonlinear iteration (method, factorisation, tolerance, history; `None` for a linear
+    /// model: then no `nonlinear` key).
+    pub nonlinear: Option<&'a crate::solve::nonlinear::Outcome>,
 }
 
 #[derive(Serialize)]
@@ -47,6 +50,10 @@ struct MaterialOut<'a> {
     id: usize,
     name: &'a str,
     conductivity_w_per_m_k: f64,
+    /// The conductivity table `[[T °C, k W/(m·K)], …]` of a temperature-dependent material
+    /// (then `conductivity_w_per_m_k` is k at the middle of its range).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    conductivity_table_c_w_per_m_k: Option<&'a [[f64; 2]]>,
     heat_source_w_per_m3: f64,
     /// Meshed area (null when the material has no triangle on the mesh).
     area_m2: Option<f64>,
@@ -95,10 +102,47 @@ struct TemperatureOut {
 #[derive(Serialize)]
 #[serde(tag = "kind", rename_all = "lowercase")]
 enum ConditionOut {
-    Fixed { temperature_c: f64 },
+    Fixed {
+        temperature_c: f64,
+    },
     Insulated,
-    Flux { flux_w_per_m2: f64 },
-    Convection { h_w_per_m2_k: f64, ambient_c: f64 },
+    Flux {
+        flux_w_per_m2: f64,
+    },
+    Convection {
+        h_w_per_m2_k: f64,
+        ambient_c: f64,
+        /// Emissivity when the convective surface also radiates.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        emissivity: Option<f64>,
+        /// Surroundings when the convective surface also radiates, °C.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        surroundings_c: Option<f64>,
+    },
+    Radiation {
+        emissivity: f64,
+        surroundings_c: f64,
+    },
+}
+
+impl ConditionOut {
+    /// The condition of boundary `id` of `section`, radiation included.
+    fn of(section: &Section, id: usize) -> Self {
+        let mut c = Self::from(&section.boundaries[id].kind);
+        if let (
+            Self::Convection {
+                emissivity,
+                surroundings_c,
+                ..
+            },
+            Some(r),
+        ) = (&mut c, section.radiation(id))
+        {
+            *emissivity = Some(r.emissivity);
+            *surroundings_c = Some(r.surroundings);
+        }
+        c
+    }
 }
 
 impl From<&BoundaryKind> for ConditionOut {
@@ -114,6 +158,15 @@ impl From<&BoundaryKind> for ConditionOut {
             BoundaryKind::Convection { h, ambient } => Self::Convection {
                 h_w_per_m2_k: h,
                 ambient_c: ambient,
+                emissivity: None,
+                surroundings_c: None,
+            },
+            BoundaryKind::Radiation {
+                emissivity,
+                surroundings,
+            } => Self::Radiation {
+                emissivity,
+                surroundings_c: surroundings,
             },
         }
     }
@@ -128,6 +181,9 @@ struct BoundaryOut<'a> {
     mean_temperature_c: f64,
     min_temperature_c: f64,
     max_temperature_c: f64,
+    /// Mean linearised radiation coefficient over the boundary (radiating boundaries only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    radiation_coefficient_w_per_m2_k: Option<f64>,
     /// The boundary condition as given (null for unnamed segments).
     condition: Option<ConditionOut>,
 }
@@ -224,6 +280,8 @@ struct Summary<'a> {
     error_estimate: ErrorEstimateOut,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     adaptivity: Vec<CycleOut>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    nonlinear: Option<&'a crate::solve::nonlinear::Outcome>,
     warnings: &'a [String],
     checks: Vec<CheckOut<'a>>,
     model: &'a Value,
@@ -257,6 +315,9 @@ fn materials<'a>(section: &'a Section, r: &'a Results) -> Vec<MaterialOut<'a>> {
                 id: m.id,
                 name: &m.name,
                 conductivity_w_per_m_k: m.conductivity,
+                conductivity_table_c_w_per_m_k: section
+                    .conductivity_table(m.id)
+                    .map(|t| t.points.as_slice()),
                 heat_source_w_per_m3: m.heat_source,
                 area_m2: res.map(|x| x.area),
                 heat_generated_w_per_m: res.map(|x| x.heat_generated),
@@ -312,11 +373,12 @@ fn boundaries<'a>(section: &'a Section, r: &'a Results) -> Vec<BoundaryOut<'a>> 
             mean_temperature_c: b.mean_temperature,
             min_temperature_c: b.min_temperature,
             max_temperature_c: b.max_temperature,
+            radiation_coefficient_w_per_m2_k: b.radiation_coefficient,
             condition: section
                 .boundaries
                 .iter()
-                .find(|s| s.name == b.name)
-                .map(|s| ConditionOut::from(&s.kind)),
+                .position(|s| s.name == b.name)
+                .map(|id| ConditionOut::of(section, id)),
         })
         .collect()
 }
@@ -461,6 +523,7 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
             .map(|c| super::coupling::coupling_out(section, c)),
         error_estimate: ErrorEstimateOut::from(inputs.error_estimate),
         adaptivity: cycles(inputs.adaptivity),
+        nonlinear: inputs.nonlinear,
         warnings: inputs.warnings,
         checks: checks(inputs.checks),
         model: inputs.model,

@@ -59,6 +59,7 @@ fn tiny_results() -> Results {
         mean_temperature: 10.0,
         min_temperature: 0.0,
         max_temperature: 20.0,
+        radiation_coefficient: None,
     };
     Results {
         temperature: vec![20.0, 0.0, 0.0, 20.0],
@@ -373,6 +374,7 @@ fn summary_has_keys_in_order() {
         timings: &timings,
         model: &model,
         coupling: None,
+        nonlinear: None,
     };
     let files = [ManifestEntry::of("nodes.csv", b"node\n")];
     let with_files = summary_json_with_files(&inputs, &files).unwrap();
@@ -493,6 +495,7 @@ fn summary_lists_adaptive_cycles() {
         timings: &Timings::default(),
         model: &Value::Null,
         coupling: None,
+        nonlinear: None,
     })
     .unwrap();
     let v: Value = serde_json::from_slice(&bytes).unwrap();

@@ -56,7 +56,7 @@ impl CutResult {
 pub fn cut_flows(
     section: &Section,
     mesh: &Mesh,
-    conductivity: &[Conductivity],
+    conductivity: &impl Fn(usize) -> Conductivity,
     temperature: &[f64],
     warnings: &mut Vec<String>,
 ) -> Vec<CutResult> {
@@ -118,7 +118,7 @@ fn in_material(section: &Section, p: Point) -> bool {
 fn flow_across(
     cut: &Cut,
     mesh: &Mesh,
-    conductivity: &[Conductivity],
+    conductivity: &impl Fn(usize) -> Conductivity,
     temperature: &[f64],
 ) -> (f64, usize) {
     let bb = geom::bbox(cut.points.iter().copied());
@@ -136,9 +136,8 @@ fn flow_across(
                 continue;
             }
             crossed.push((ids[a].min(ids[b]), ids[a].max(ids[b])));
-            let k = ke.get_or_insert_with(|| {
-                TriangleGeometry::of(mesh, t).conduction(&conductivity[mesh.material[t]])
-            });
+            let k = ke
+                .get_or_insert_with(|| TriangleGeometry::of(mesh, t).conduction(&conductivity(t)));
             flow += f64::from(s) * k[(a, b)] * (temperature[ids[a]] - temperature[ids[b]]);
         }
     }

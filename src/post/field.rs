@@ -27,6 +27,16 @@ pub fn gradients_and_fluxes(
     conductivity: &[Conductivity],
     temperature: &[f64],
 ) -> Field {
+    gradients_and_fluxes_with(mesh, &|t| conductivity[mesh.material[t]], temperature)
+}
+
+/// [`gradients_and_fluxes`] with the conductivity of each triangle given by `conductivity`
+/// (triangle index → tensor), for a conductivity that varies with temperature.
+pub fn gradients_and_fluxes_with(
+    mesh: &Mesh,
+    conductivity: &impl Fn(usize) -> Conductivity,
+    temperature: &[f64],
+) -> Field {
     let (n, nt) = (mesh.nodes.len(), mesh.triangles.len());
     let mut cell_gradient = Vec::with_capacity(nt);
     let mut cell_flux = Vec::with_capacity(nt);
@@ -37,7 +47,7 @@ pub fn gradients_and_fluxes(
     for (t, ids) in mesh.triangles.iter().enumerate() {
         let g = TriangleGeometry::of(mesh, t);
         let grad = g.gradient(Vector3::from(ids.map(|v| temperature[v])));
-        let q = conductivity[mesh.material[t]].flux(grad);
+        let q = conductivity(t).flux(grad);
         for &v in ids {
             sum_gradient[v] += grad * g.area;
             sum_flux[v] += q * g.area;

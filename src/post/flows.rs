@@ -20,6 +20,9 @@ struct BoundaryAccumulator {
     temperature_integral: f64,
     min: f64,
     max: f64,
+    /// ∫ h_r ds over radiating edges, W/(m·K), and their length, m.
+    radiation_coefficient_integral: f64,
+    radiating_length: f64,
 }
 
 impl BoundaryAccumulator {
@@ -31,6 +34,8 @@ impl BoundaryAccumulator {
             temperature_integral: 0.0,
             min: f64::INFINITY,
             max: f64::NEG_INFINITY,
+            radiation_coefficient_integral: 0.0,
+            radiating_length: 0.0,
         }
     }
 
@@ -55,6 +60,8 @@ impl BoundaryAccumulator {
             },
             min_temperature: self.min,
             max_temperature: self.max,
+            radiation_coefficient: (self.radiating_length > 0.0)
+                .then(|| self.radiation_coefficient_integral / self.radiating_length),
         }
     }
 }
@@ -118,12 +125,18 @@ fn accumulate(
         let Some(id) = e.boundary else {
             continue;
         };
+        if let Some(r) = section.radiation(id) {
+            let q = crate::fem::nonlinear::radiation_edge(&r, ta, tb);
+            acc[g].heat_flow += q.mean_flux * l;
+            acc[g].radiation_coefficient_integral += q.mean_coefficient * l;
+            acc[g].radiating_length += l;
+        }
         match section.boundaries[id].kind {
             BoundaryKind::Fixed { .. } => {
                 fixed_ends.push((a, g, l));
                 fixed_ends.push((b, g, l));
             }
-            BoundaryKind::Insulated => {}
+            BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
             BoundaryKind::Flux { flux } => acc[g].heat_flow += flux * l,
             BoundaryKind::Convection { h, ambient } => {
                 acc[g].heat_flow += h * l * (ambient - 0.5 * (ta + tb));

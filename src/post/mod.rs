@@ -58,6 +58,8 @@ pub enum ConditionKind {
     Flux,
     /// Film coefficient to an ambient temperature.
     Convection,
+    /// Surface radiation to surroundings.
+    Radiation,
 }
 
 impl ConditionKind {
@@ -68,6 +70,7 @@ impl ConditionKind {
             ConditionKind::Insulated => "insulated",
             ConditionKind::Flux => "flux",
             ConditionKind::Convection => "convection",
+            ConditionKind::Radiation => "radiation",
         }
     }
 }
@@ -79,6 +82,7 @@ impl From<&BoundaryKind> for ConditionKind {
             BoundaryKind::Insulated => ConditionKind::Insulated,
             BoundaryKind::Flux { .. } => ConditionKind::Flux,
             BoundaryKind::Convection { .. } => ConditionKind::Convection,
+            BoundaryKind::Radiation { .. } => ConditionKind::Radiation,
         }
     }
 }
@@ -107,6 +111,9 @@ pub struct BoundaryResult {
     pub min_temperature: f64,
     /// Highest nodal temperature on the boundary, °C.
     pub max_temperature: f64,
+    /// Mean linearised radiation coefficient `h_r = εσ(T² + T_s²)(T + T_s)` over the
+    /// boundary's radiating edges, W/(m²·K); `None` when it does not radiate.
+    pub radiation_coefficient: Option<f64>,
 }
 
 /// The temperature at one probe point.
@@ -249,7 +256,8 @@ pub fn postprocess_located(
         ));
     }
     let temperature = &solution.temperature;
-    let field = field::gradients_and_fluxes(mesh, &system.conductivity, temperature);
+    let conductivity = |t: usize| *system.triangle_conductivity(mesh, t);
+    let field = field::gradients_and_fluxes_with(mesh, &conductivity, temperature);
     let residual = system.residual(temperature)?;
     let boundaries = flows::boundary_results(section, mesh, &residual, temperature)?;
     let items = flows::item_results(section, mesh, &residual, temperature);
@@ -261,13 +269,7 @@ pub fn postprocess_located(
     let sampler = sample::Sampler::new(section, locator, temperature, &field.nodal_flux);
     let probes = sampler.probes(&mut warnings)?;
     let lines = sampler.lines(&mut warnings)?;
-    let cuts = cuts::cut_flows(
-        section,
-        mesh,
-        &system.conductivity,
-        temperature,
-        &mut warnings,
-    );
+    let cuts = cuts::cut_flows(section, mesh, &conductivity, temperature, &mut warnings);
     Ok(Results {
         temperature: temperature.clone(),
         cell_gradient: field.cell_gradient,

@@ -29,6 +29,24 @@ fn kind_line(k: &BoundaryKind) -> String {
         BoundaryKind::Convection { h, ambient } => {
             format!("convection, h = {h} W/(m²·K), ambient {ambient} °C")
         }
+        BoundaryKind::Radiation {
+            emissivity,
+            surroundings,
+        } => format!("radiation, emissivity {emissivity}, surroundings {surroundings} °C"),
+    }
+}
+
+/// [`kind_line`] of boundary `id` with its radiation when a convective surface also radiates.
+fn boundary_line(s: &Section, id: usize) -> String {
+    let b = &s.boundaries[id];
+    match (b.kind, s.radiation(id)) {
+        (BoundaryKind::Convection { .. }, Some(r)) => format!(
+            "{}; radiation, emissivity {}, surroundings {} °C",
+            kind_line(&b.kind),
+            r.emissivity,
+            r.surroundings
+        ),
+        _ => kind_line(&b.kind),
     }
 }
 
@@ -83,7 +101,17 @@ fn materials_table(o: &mut String, s: &Section) {
         t.add_row(vec![
             m.id.to_string(),
             m.name.clone(),
-            m.conductivity.to_string(),
+            match s.conductivity_table(m.id) {
+                Some(t) => format!(
+                    "table (°C → k): {}",
+                    t.points
+                        .iter()
+                        .map(|p| format!("{} → {}", p[0], p[1]))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                None => m.conductivity.to_string(),
+            },
             m.heat_source.to_string(),
         ]);
     }
@@ -118,7 +146,7 @@ fn boundaries_table(o: &mut String, s: &Section) {
     for (id, b) in s.boundaries.iter().enumerate() {
         t.add_row(vec![
             b.name.clone(),
-            kind_line(&b.kind),
+            boundary_line(s, id),
             fixed(boundary_length(s, id), 6),
         ]);
     }

@@ -124,6 +124,25 @@ fn checks_table(o: &mut String, checks: &[Check]) {
     push_table(o, &t, 1);
 }
 
+/// The nonlinear iteration: method, factorisation, stopping tolerance and one line per update.
+fn nonlinear_lines(o: &mut String, n: &crate::solve::nonlinear::Outcome) {
+    let _ = writeln!(
+        o,
+        "nonlinear iteration ({}, sparse {}): {} updates, stopped at |ΔT|max <= {} K",
+        n.method.name(),
+        if n.factorisation == "lu" {
+            "LU"
+        } else {
+            "Cholesky"
+        },
+        n.history.len(),
+        sci(n.tolerance_k, 3)
+    );
+    for line in crate::solve::nonlinear::history_lines(&n.history) {
+        let _ = writeln!(o, "{line}");
+    }
+}
+
 /// The solve summary: what `xsheat solve` prints (results only; the caller prints the caution).
 pub fn solve_report(sv: &Solved) -> String {
     let s = sv.section();
@@ -145,6 +164,9 @@ pub fn solve_report(sv: &Solved) -> String {
         sci(sv.error_estimate.energy_norm, 3)
     );
     adaptivity_table(&mut o, &sv.adaptivity);
+    if let Some(n) = &sv.nonlinear {
+        nonlinear_lines(&mut o, n);
+    }
     checks_table(&mut o, &sv.checks);
     o
 }

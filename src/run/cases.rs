@@ -114,6 +114,7 @@ fn solve_case_located(
             fixed: load.fixed,
             cell_source: load.cell_source,
             conductivity: base.conductivity.clone(),
+            cell_conductivity: None,
         };
         let solution = factor.solve(&system.load, &system.fixed)?;
         (Factorisation::Reused, system, solution)

@@ -196,7 +196,7 @@ fn solver_residual(system: &System, temperature: &[f64], rows: &RowTerms) -> Che
 }
 
 /// Ids of the boundaries some mesh edge carries, sorted.
-fn used_boundaries(mesh: &Mesh) -> Vec<usize> {
+pub(super) fn used_boundaries(mesh: &Mesh) -> Vec<usize> {
     let mut u: Vec<usize> = mesh
         .boundary_edges
         .iter()
@@ -207,7 +207,8 @@ fn used_boundaries(mesh: &Mesh) -> Vec<usize> {
     u
 }
 
-/// Range of the fixed and ambient temperatures of the used boundaries, °C.
+/// Range of the fixed, ambient and radiation surroundings temperatures of the used
+/// boundaries, °C.
 fn imposed_range(section: &Section, used: &[usize]) -> (f64, f64) {
     let mut lo = f64::INFINITY;
     let mut hi = f64::NEG_INFINITY;
@@ -223,12 +224,16 @@ fn imposed_range(section: &Section, used: &[usize]) -> (f64, f64) {
             }
             _ => {}
         }
+        if let Some(r) = section.radiation(b) {
+            lo = lo.min(r.surroundings);
+            hi = hi.max(r.surroundings);
+        }
     }
     (lo, hi)
 }
 
 /// Without sources and imposed fluxes, temperatures lie within the imposed range (warning).
-fn maximum_principle(section: &Section, used: &[usize], r: &Results) -> Check {
+pub(super) fn maximum_principle(section: &Section, used: &[usize], r: &Results) -> Check {
     let (lo, hi) = imposed_range(section, used);
     let range = (hi - lo).max(1e-300);
     let tol = MAX_PRINCIPLE_TOLERANCE * range.max(1.0);
@@ -248,7 +253,7 @@ fn maximum_principle(section: &Section, used: &[usize], r: &Results) -> Check {
         severity: Severity::Warning,
         detail: if excursion > tol {
             format!(
-                "temperatures must lie within the fixed and ambient range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside it at ({:.6}, {:.6})",
+                "temperatures must lie within the fixed, ambient and surroundings range [{lo}, {hi}] °C; the {which} lies {excursion:.3e} K outside it at ({:.6}, {:.6})",
                 at[0], at[1]
             )
         } else if excursion > 0.0 {

@@ -34,6 +34,8 @@ pub struct Prepared {
     pub section: Section,
     /// Its segment set (geometry stage).
     pub pslg: Pslg,
+    /// How a nonlinear model is iterated (`solve --nonlinear`; ignored by a linear model).
+    pub nonlinear: solve::nonlinear::Method,
 }
 
 impl Prepared {
@@ -57,6 +59,7 @@ pub fn prepare(path: &Path) -> Result<Prepared> {
         model,
         section,
         pslg,
+        nonlinear: Default::default(),
     })
 }
 
@@ -68,6 +71,7 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
         model,
         section,
         pslg,
+        nonlinear: Default::default(),
     })
 }
 
@@ -147,6 +151,8 @@ pub struct Solved {
     pub warnings: Vec<String>,
     /// Wall-clock time per stage.
     pub timings: Timings,
+    /// The nonlinear iteration (method, history), `None` for a linear model.
+    pub nonlinear: Option<solve::nonlinear::Outcome>,
 }
 
 impl Solved {
@@ -218,6 +224,9 @@ pub fn solve_with(
 /// the base factorisation where the matrix is unchanged). `mesh_s` is the meshing time to
 /// report.
 pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved> {
+    if prepared.section.is_nonlinear() {
+        return nonlinear::solve_nonlinear(prepared, mesh, mesh_s);
+    }
     let t1 = Instant::now();
     crate::progress::stage("assembling");
     let system = fem::assemble(&prepared.section, &mesh)?;
@@ -279,6 +288,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             cases_s: t5.elapsed().as_secs_f64(),
             ..Timings::default()
         },
+        nonlinear: None,
     })
 }
 
@@ -300,5 +310,6 @@ pub struct Cycle {
 pub mod cases;
 mod checks;
 pub mod coupling;
+pub mod nonlinear;
 pub use cases::{CaseSolved, Factorisation};
 pub use checks::*;

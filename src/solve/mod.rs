@@ -22,6 +22,7 @@
 pub mod cg;
 pub mod cholesky;
 pub mod factorized;
+pub mod nonlinear;
 pub mod ordering;
 #[cfg(test)]
 mod tests;
