@@ -106,8 +106,8 @@ fn edited(file: &ModelFile, i: usize) -> ModelFile {
             .materials
             .get_mut(name)
             .expect("the case names a material");
-        if let Some(k) = v.conductivity {
-            target.conductivity = k.into();
+        if let Some(k) = &v.conductivity {
+            target.conductivity = k.clone();
         }
         if v.heat_source.is_some() {
             target.heat_source = v.heat_source;

@@ -570,3 +570,60 @@ fn bad_nonlinear_inputs_exit_2_name_the_item_and_write_nothing() {
     );
     assert!(!grid_out.exists());
 }
+
+/// Bad values of the keys of the surface resistance and the anisotropic conductivity: exit 2,
+/// the message names the key and its item, nothing written.
+#[test]
+fn bad_physics_inputs_exit_2_name_the_key_and_write_nothing() {
+    let cases: Vec<(&str, String, &[&str])> = vec![
+        (
+            "h-and-resistance",
+            replace("h = 15.0", "h = 15.0\nresistance = 0.04"),
+            &["boundaries.top", "`h` or `resistance`"],
+        ),
+        (
+            "resistance-zero",
+            replace("h = 15.0", "resistance = 0.0"),
+            &["boundaries.top", "resistance"],
+        ),
+        (
+            "resistance-on-fixed",
+            replace("temperature = 10.0", "temperature = 10.0\nresistance = 0.1"),
+            &["boundaries.base", "`resistance`"],
+        ),
+        (
+            "orientation-without-pair",
+            replace(
+                "conductivity = 1.7",
+                "conductivity = 1.7\norientation = 30.0",
+            ),
+            &["materials.concrete", "orientation"],
+        ),
+        (
+            "pair-minor-zero",
+            replace("conductivity = 1.7", "conductivity = [1.7, 0.0]"),
+            &["materials.concrete", "conductivity[1]"],
+        ),
+        (
+            "orientation-nan",
+            replace(
+                "conductivity = 1.7",
+                "conductivity = [1.7, 1.0]\norientation = nan",
+            ),
+            &["materials.concrete", "orientation"],
+        ),
+        (
+            "pair-of-three",
+            replace("conductivity = 1.7", "conductivity = [1.7, 1.0, 0.5]"),
+            &["conductivity"],
+        ),
+    ];
+    for (case, model, needles) in cases {
+        let (code, err, _dir, out) = run_solve(&model);
+        assert_eq!(code, 2, "case {case}: exit code {code}, stderr: {err}");
+        for n in needles {
+            assert!(err.contains(n), "case {case}: stderr lacks {n:?}: {err}");
+        }
+        assert!(!out.exists(), "case {case}: output directory was created");
+    }
+}

@@ -300,3 +300,55 @@ fn iteration_cap_fails_with_the_history() {
         "{text}"
     );
 }
+
+/// field.vtu carries each triangle's conductivity at its mean temperature for a table
+/// material, and summary.json the table beside k at the middle of its range.
+#[test]
+fn table_material_outputs_its_cell_conductivity_and_table() {
+    use vtkio::Vtk;
+    use vtkio::model::{Attribute, DataSet, IOBuffer, Piece};
+    let (run, _dir, out) = common::solve_text(&slab(2e-4), &[]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(out.join("summary.json")).unwrap()).unwrap();
+    let m = &summary["materials"][0];
+    let (k_cold, k_hot) = (K0 * (1.0 + BETA * T2), K0 * (1.0 + BETA * T1));
+    // The middle of the table's range, 50 °C: k0(1 + 50β).
+    assert!((m["conductivity_w_per_m_k"].as_f64().unwrap() - (k_cold + k_hot) / 2.0).abs() < 1e-12);
+    assert_eq!(m["conductivity_table_c_w_per_m_k"][1][1], k_hot);
+    let vtk = Vtk::import(out.join("field.vtu")).expect("field.vtu reads back");
+    let DataSet::UnstructuredGrid { pieces, .. } = vtk.data else {
+        panic!("not an unstructured grid")
+    };
+    let Piece::Inline(piece) = pieces.into_iter().next().unwrap() else {
+        panic!("piece not inline")
+    };
+    let cell = |name: &str| -> Vec<f64> {
+        piece
+            .data
+            .cell
+            .iter()
+            .find_map(|a| match a {
+                Attribute::DataArray(d) if d.name == name => match &d.data {
+                    IOBuffer::F64(v) => Some(v.clone()),
+                    _ => None,
+                },
+                _ => None,
+            })
+            .unwrap_or_else(|| panic!("{name} missing"))
+    };
+    let (xx, yy, xy) = (
+        cell("conductivity_xx_w_per_m_k"),
+        cell("conductivity_yy_w_per_m_k"),
+        cell("conductivity_xy_w_per_m_k"),
+    );
+    assert_eq!(xx.len(), piece.cells.types.len());
+    // Isotropic in every cell, within the table's values, and spread over most of the range
+    // (the field runs from 0 to 100 °C across the slab).
+    assert!(xx.iter().zip(&yy).all(|(a, b)| a == b));
+    assert!(xy.iter().all(|k| *k == 0.0));
+    assert!(xx.iter().all(|k| (k_cold..=k_hot).contains(k)), "{xx:?}");
+    let lo = xx.iter().cloned().fold(f64::INFINITY, f64::min);
+    let hi = xx.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+    assert!(hi - lo > 0.8 * (k_hot - k_cold), "{lo} .. {hi}");
+}

@@ -140,6 +140,9 @@ fn demo_outputs_are_complete_and_read_back() {
         ("gradient_k_per_m", 3),
         ("material", 1),
         ("error_indicator", 1),
+        ("conductivity_xx_w_per_m_k", 1),
+        ("conductivity_yy_w_per_m_k", 1),
+        ("conductivity_xy_w_per_m_k", 1),
     ] {
         assert!(
             cell.contains(&(name.to_string(), comp, comp * triangles)),

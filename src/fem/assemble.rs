@@ -9,7 +9,7 @@ use super::checks::{check_load_case, check_mesh};
 use super::element::{Conductivity, TriangleGeometry};
 use crate::error::{Error, Result};
 use crate::mesh::{BoundaryEdge, Mesh};
-use crate::model::{BoundaryKind, Section};
+use crate::model::{BoundaryKind, ConductivityLaw, Section};
 use sprs::CsMat;
 
 /// The values of one load case. Boundary kinds and film coefficients belong to the matrix and
@@ -67,7 +67,14 @@ pub fn material_conductivity(section: &Section) -> Vec<Conductivity> {
     section
         .materials
         .iter()
-        .map(|m| Conductivity::isotropic(m.conductivity))
+        .map(|m| match m.conductivity {
+            ConductivityLaw::Isotropic { k } => Conductivity::isotropic(k),
+            ConductivityLaw::Anisotropic {
+                k_major,
+                k_minor,
+                orientation_deg,
+            } => Conductivity::principal(k_major, k_minor, orientation_deg.to_radians()),
+        })
         .collect()
 }
 

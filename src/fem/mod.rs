@@ -2,7 +2,7 @@
 //! element method for steady conduction, `K·T = f`.
 //!
 //! - [`element`]: the conductivity tensor and the geometry of one triangle (conduction
-//!   `A·Bᵀ·D·B`, with D the conductivity tensor, isotropic today);
+//!   `A·Bᵀ·D·B`, with D the conductivity tensor of the material's law, isotropic or rotated principal values);
 //! - [`assemble`](mod@assemble): the global matrix (conduction, convection
 //!   `h·L/6·[[2,1],[1,2]]` per convective edge) and loads (uniform source `Q·A/3` per triangle
 //!   node, imposed flux `q·L/2` and convection `h·T∞·L/2` per edge node, positive into the

@@ -106,7 +106,8 @@ fn ring_corners(
         let eps = 1e-6 * section.diameter();
         let probe = [c[0] + eps * dir[0], c[1] + eps * dir[1]];
         let zone: Zone = classifier.zone(probe);
-        let conductivity = zone.map(|z| section.materials[zone_material[z]].conductivity);
+        let conductivity =
+            zone.map(|z| section.materials[zone_material[z]].conductivity.effective());
         out.push(JumpCorner {
             at: c,
             boundaries: [b0, b1],

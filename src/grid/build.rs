@@ -434,7 +434,8 @@ fn quarter(b: &Builder, node: &GridNode, len: &[f64; 4], dx: usize, dy: usize) -
         });
     match m {
         Some(m) => (
-            b.section.materials[m].conductivity,
+            // `build` refuses anisotropic materials, so this is the isotropic k.
+            b.section.materials[m].conductivity.max(),
             b.section.materials[m].heat_source,
         ),
         None => (0.0, 0.0),
@@ -559,6 +560,16 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
         return Err(Error::input(
             "grid model: not available for a nonlinear model (a conductivity table or a radiating boundary); the grid check is linear — use `converge` to check the element model's discretisation",
         ));
+    }
+    if let Some(m) = section
+        .materials
+        .iter()
+        .find(|m| m.conductivity.isotropic().is_none())
+    {
+        return Err(Error::input(format!(
+            "materials.{}: the grid model (5-point stencil) takes isotropic conductivities only; conductivity = {} is anisotropic",
+            m.name, m.conductivity
+        )));
     }
     // Ring checks (crossings, holes inside the outline, ...) are those of the element model.
     geometry::build(section)?;

@@ -4,10 +4,10 @@
 //! A case overrides values of existing boundaries (only the value keys of the boundary's own
 //! kind) and materials (`heat_source`, `conductivity`); everything else is the base model's.
 
+use super::conductivity::conductivity_law;
 use super::suggest::{did_you_mean, known_list};
 use super::validate::{
-    check_bounded, check_case_unique, check_conductivity, check_film_coefficient, check_name,
-    check_temperature,
+    check_bounded, check_case_unique, check_name, check_temperature, film_or_resistance,
 };
 use super::{
     Boundary, BoundaryKind, MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, Material, ModelFile, Section,
@@ -49,6 +49,9 @@ pub struct CaseBoundaryFile {
     /// Film coefficient, W/(m²·K) (kind convection).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub h: Option<f64>,
+    /// Surface resistance R_s = 1/h, m²·K/W (kind convection, instead of `h`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub resistance: Option<f64>,
     /// Ambient temperature, °C (kind convection).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ambient: Option<f64>,
@@ -61,9 +64,12 @@ pub struct CaseBoundaryFile {
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct CaseMaterialFile {
-    /// W/(m·K)
+    /// W/(m·K): a number, or `[k_major, k_minor]`.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub conductivity: Option<f64>,
+    pub conductivity: Option<super::ConductivityFile>,
+    /// Degrees from the x axis to the major direction (anisotropic materials only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub orientation: Option<f64>,
     /// W/m³
     #[serde(skip_serializing_if = "Option::is_none")]
     pub heat_source: Option<f64>,
@@ -76,6 +82,9 @@ pub struct CaseBoundary {
     pub id: usize,
     /// The condition in this case.
     pub kind: BoundaryKind,
+    /// Surface resistance R_s, m²·K/W, when the film coefficient of this case was given (by
+    /// the case, or by the base boundary the case leaves it to) as `resistance`.
+    pub resistance: Option<f64>,
 }
 
 /// A material's values in one case (resolved: base values where the case gives none).
@@ -83,8 +92,8 @@ pub struct CaseBoundary {
 pub struct CaseMaterial {
     /// Material id.
     pub id: usize,
-    /// W/(m·K)
-    pub conductivity: f64,
+    /// The conductivity law in this case.
+    pub conductivity: super::ConductivityLaw,
     /// W/m³
     pub heat_source: f64,
 }
@@ -109,6 +118,7 @@ impl Section {
         s.cases.clear();
         for b in &case.boundaries {
             s.boundaries[b.id].kind = b.kind;
+            s.boundaries[b.id].resistance = b.resistance;
         }
         for m in &case.materials {
             s.materials[m.id].conductivity = m.conductivity;
@@ -224,11 +234,12 @@ fn case_boundary(
         BoundaryKind::Fixed { .. } => &["temperature"],
         BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => &[],
         BoundaryKind::Flux { .. } => &["flux"],
-        BoundaryKind::Convection { .. } => &["h", "ambient"],
+        BoundaryKind::Convection { .. } => &["h", "resistance", "ambient"],
     };
     let present = [
         ("temperature", b.temperature.is_some()),
         ("h", b.h.is_some()),
+        ("resistance", b.resistance.is_some()),
         ("ambient", b.ambient.is_some()),
         ("flux", b.flux.is_some()),
     ];
@@ -245,6 +256,7 @@ fn case_boundary(
             )));
         }
     }
+    let mut resistance = None;
     let kind = match base {
         BoundaryKind::Fixed { temperature } => {
             let t = b.temperature.unwrap_or(temperature);
@@ -259,14 +271,23 @@ fn case_boundary(
             BoundaryKind::Flux { flux: q }
         }
         BoundaryKind::Convection { h, ambient } => {
-            let h = b.h.unwrap_or(h);
+            let h = if b.h.is_none() && b.resistance.is_none() {
+                resistance = boundaries[id].resistance;
+                h
+            } else {
+                resistance = b.resistance;
+                film_or_resistance(&item, b.h, b.resistance)?
+            };
             let a = b.ambient.unwrap_or(ambient);
-            check_film_coefficient(&item, h)?;
             check_temperature(a, &format!("{item}: ambient"))?;
             BoundaryKind::Convection { h, ambient: a }
         }
     };
-    Ok(CaseBoundary { id, kind })
+    Ok(CaseBoundary {
+        id,
+        kind,
+        resistance,
+    })
 }
 
 /// One `[cases.materials.NAME]`: an existing material, the ranges of the base values.
@@ -285,8 +306,7 @@ fn case_material(
             did_you_mean(name, names.iter())
         )));
     };
-    let conductivity = m.conductivity.unwrap_or(base.conductivity);
-    check_conductivity(&item, conductivity)?;
+    let conductivity = case_conductivity(&item, m, base.conductivity)?;
     let heat_source = m.heat_source.unwrap_or(base.heat_source);
     check_bounded(
         heat_source,
@@ -299,6 +319,28 @@ fn case_material(
         conductivity,
         heat_source,
     })
+}
+
+/// A case's conductivity law: the base's when the case gives neither `conductivity` nor
+/// `orientation`; a pair given without `orientation` keeps the base's orientation (0 for an
+/// isotropic base); `orientation` alone turns the base's principal axes.
+fn case_conductivity(
+    item: &str,
+    m: &CaseMaterialFile,
+    base: super::ConductivityLaw,
+) -> Result<super::ConductivityLaw> {
+    let (base_file, base_orientation) = base.to_file();
+    match (&m.conductivity, m.orientation) {
+        (None, None) => Ok(base),
+        (None, Some(_)) if base_orientation.is_none() => Err(Error::input(format!(
+            "{item}: orientation needs an anisotropic material (conductivity = [k_major, k_minor] in the base or in the case)"
+        ))),
+        (None, Some(o)) => conductivity_law(item, &base_file, Some(o)),
+        (Some(c @ super::ConductivityFile::Principal(_)), o) => {
+            conductivity_law(item, c, o.or(base_orientation))
+        }
+        (Some(c), o) => conductivity_law(item, c, o),
+    }
 }
 
 /// The cases as written back in the echo: every value of an overridden boundary or material,
@@ -319,7 +361,10 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                         BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
                         BoundaryKind::Flux { flux } => f.flux = Some(flux),
                         BoundaryKind::Convection { h, ambient } => {
-                            f.h = Some(h);
+                            match b.resistance {
+                                Some(r) => f.resistance = Some(r),
+                                None => f.h = Some(h),
+                            }
                             f.ambient = Some(ambient);
                         }
                     }
@@ -330,8 +375,10 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                 .materials
                 .iter()
                 .map(|m| {
+                    let (conductivity, orientation) = m.conductivity.to_file();
                     let f = CaseMaterialFile {
-                        conductivity: Some(m.conductivity),
+                        conductivity: Some(conductivity),
+                        orientation,
                         heat_source: Some(m.heat_source),
                     };
                     (section.materials[m.id].name.clone(), f)

@@ -30,8 +30,10 @@ impl Section {
                 .materials
                 .iter()
                 .map(|m| {
+                    let (conductivity, orientation) = self.conductivity_file(m.id);
                     let file = MaterialFile {
-                        conductivity: self.conductivity_file(m.id),
+                        conductivity,
+                        orientation,
                         heat_source: Some(m.heat_source),
                         max_area: m.max_area,
                     };
@@ -116,7 +118,10 @@ fn boundary_file(b: &Boundary, radiation: Option<super::Radiation>) -> BoundaryF
         BoundaryKind::Insulated => {}
         BoundaryKind::Flux { flux } => file.flux = Some(flux),
         BoundaryKind::Convection { h, ambient } => {
-            file.h = Some(h);
+            match b.resistance {
+                Some(r) => file.resistance = Some(r),
+                None => file.h = Some(h),
+            }
             file.ambient = Some(ambient);
         }
         BoundaryKind::Radiation { .. } => {}

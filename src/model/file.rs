@@ -70,8 +70,12 @@ pub struct MeshFile {
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct MaterialFile {
-    /// W/(m·K): a number, or `{ table = [[T, k], …] }` (°C, W/(m·K)).
+    /// W/(m·K): a number, `[k_major, k_minor]` with `orientation`, or
+    /// `{ table = [[T, k], …] }` (°C, W/(m·K)).
     pub conductivity: super::ConductivityFile,
+    /// Degrees from the x axis to the major direction (with a pair conductivity only).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub orientation: Option<f64>,
     /// W/m³
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub heat_source: Option<f64>,
@@ -133,6 +137,9 @@ pub struct BoundaryFile {
     /// Film coefficient, W/(m²·K).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub h: Option<f64>,
+    /// Surface resistance R_s = 1/h, m²·K/W (convection, instead of `h`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub resistance: Option<f64>,
     /// Ambient temperature, °C.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ambient: Option<f64>,

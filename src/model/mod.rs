@@ -6,6 +6,7 @@
 use serde::Serialize;
 
 mod cases;
+mod conductivity;
 mod cuts;
 mod echo;
 mod environments;
@@ -22,6 +23,7 @@ pub use cases::{
     Case, CaseBoundary, CaseBoundaryFile, CaseFile, CaseMaterial, CaseMaterialFile, MAX_CASES,
     RESERVED_CASE_NAMES,
 };
+pub use conductivity::{ConductivityFile, ConductivityLaw, MAX_ABS_ORIENTATION_DEG};
 pub use cuts::{Cut, CutFile};
 pub use environments::{
     Environment, Environments, EnvironmentsFile, F_RSI_MIN_KEY, MAX_ENVIRONMENTS, MAX_REFERENCE_U,
@@ -31,9 +33,7 @@ pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
     load, parse,
 };
-pub use nonlinear::{
-    ConductivityFile, ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN,
-};
+pub use nonlinear::{ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN};
 pub use ring::{circle_segments, ring_circle_segments};
 pub use suggest::suggest;
 pub use validate::validate;
@@ -133,6 +133,10 @@ pub struct Boundary {
     pub kind: BoundaryKind,
     /// Target mesh edge length along the boundary, m.
     pub size: Option<f64>,
+    /// Surface resistance R_s, m²·K/W, when a convection boundary was given by `resistance`
+    /// instead of `h` (its `h` is then 1/R_s).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub resistance: Option<f64>,
 }
 
 /// A material with its id.
@@ -142,9 +146,10 @@ pub struct Material {
     pub id: usize,
     /// Name as in `[materials.NAME]`.
     pub name: String,
-    /// W/(m·K); for a material with a conductivity table, k at the middle of the table's
-    /// temperature range (the table itself is [`Section::conductivity_table`]).
-    pub conductivity: f64,
+    /// The conductivity law (isotropic or anisotropic), W/(m·K); for a material with a
+    /// conductivity table, isotropic with k at the middle of the table's temperature range (the
+    /// table itself is [`Section::conductivity_table`]).
+    pub conductivity: ConductivityLaw,
     /// W/m³
     pub heat_source: f64,
     /// Largest triangle in this material, m² (`None`: the mesh's `max_area`).

@@ -1,91 +1,18 @@
 //! The nonlinear parts of a model: temperature-dependent conductivity tables
 //! (`conductivity = { table = [[T, k], …] }`) and surface radiation (`kind = "radiation"`, or
-//! `emissivity`/`surroundings` on a convection boundary). Owns their serde mirror
-//! ([`ConductivityFile`]), their validation, their echo, and the refusal of the linear-only
+//! `emissivity`/`surroundings` on a convection boundary). Owns their validation (the table's
+//! serde form is a variant of [`super::ConductivityFile`]), their echo, and the refusal of the linear-only
 //! features (`[[cases]]`, `[environments]`, `[[psi]]`) in a nonlinear model.
 
 use super::validate::{check_conductivity, check_temperature};
 use super::{BoundaryFile, BoundaryKind, ModelFile, Section};
 use crate::error::{Error, Result};
-use serde::{Deserialize, Serialize};
+use serde::Serialize;
 
 /// Stefan–Boltzmann constant, W/(m²·K⁴) (CODATA 2018, exact in the 2019 SI).
 pub const STEFAN_BOLTZMANN: f64 = 5.670374419e-8;
 /// Most points of one conductivity table.
 pub const MAX_TABLE_POINTS: usize = 1000;
-
-/// `conductivity` of a material as written: a number, W/(m·K), or `{ table = [[T, k], …] }`
-/// (°C, W/(m·K)).
-#[derive(Debug, Clone, PartialEq, Serialize)]
-#[serde(untagged)]
-pub enum ConductivityFile {
-    /// A constant conductivity, W/(m·K).
-    Constant(f64),
-    /// A piecewise-linear table of (temperature °C, conductivity W/(m·K)).
-    Table {
-        /// `[[T, k], …]`.
-        table: Vec<[f64; 2]>,
-    },
-}
-
-impl Default for ConductivityFile {
-    fn default() -> Self {
-        ConductivityFile::Constant(0.0)
-    }
-}
-
-impl From<f64> for ConductivityFile {
-    fn from(k: f64) -> Self {
-        ConductivityFile::Constant(k)
-    }
-}
-
-/// Reads a number or a table with one key `table`; errors name what was expected.
-struct ConductivityVisitor;
-
-impl<'de> serde::de::Visitor<'de> for ConductivityVisitor {
-    type Value = ConductivityFile;
-    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
-        write!(
-            f,
-            "`conductivity`: a number in W/(m·K) or a table {{ table = [[T, k], …] }} (°C, W/(m·K))"
-        )
-    }
-    fn visit_f64<E: serde::de::Error>(self, v: f64) -> std::result::Result<Self::Value, E> {
-        Ok(ConductivityFile::Constant(v))
-    }
-    fn visit_i64<E: serde::de::Error>(self, v: i64) -> std::result::Result<Self::Value, E> {
-        Ok(ConductivityFile::Constant(v as f64))
-    }
-    fn visit_u64<E: serde::de::Error>(self, v: u64) -> std::result::Result<Self::Value, E> {
-        Ok(ConductivityFile::Constant(v as f64))
-    }
-    fn visit_map<A: serde::de::MapAccess<'de>>(
-        self,
-        mut map: A,
-    ) -> std::result::Result<Self::Value, A::Error> {
-        let mut table: Option<Vec<super::file::Point2>> = None;
-        while let Some(key) = map.next_key::<String>()? {
-            if key != "table" {
-                return Err(serde::de::Error::unknown_field(&key, &["table"]));
-            }
-            if table.is_some() {
-                return Err(serde::de::Error::duplicate_field("table"));
-            }
-            table = Some(map.next_value()?);
-        }
-        let table = table.ok_or_else(|| serde::de::Error::missing_field("table"))?;
-        Ok(ConductivityFile::Table {
-            table: table.into_iter().map(|p| p.0).collect(),
-        })
-    }
-}
-
-impl<'de> Deserialize<'de> for ConductivityFile {
-    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
-        d.deserialize_any(ConductivityVisitor)
-    }
-}
 
 /// A validated conductivity table: k(T) piecewise linear between the points, constant beyond
 /// the ends.
@@ -294,13 +221,17 @@ impl Section {
         self.nonlinear.is_nonlinear()
     }
 
-    /// The `conductivity` of material `id` as written back (the table for a table material).
-    pub(super) fn conductivity_file(&self, id: usize) -> ConductivityFile {
+    /// The `conductivity` and `orientation` of material `id` as written back (the table for a
+    /// table material).
+    pub(super) fn conductivity_file(&self, id: usize) -> (super::ConductivityFile, Option<f64>) {
         match self.conductivity_table(id) {
-            Some(t) => ConductivityFile::Table {
-                table: t.points.clone(),
-            },
-            None => ConductivityFile::Constant(self.materials[id].conductivity),
+            Some(t) => (
+                super::ConductivityFile::Table {
+                    table: t.points.clone(),
+                },
+                None,
+            ),
+            None => self.materials[id].conductivity.to_file(),
         }
     }
 }

@@ -170,6 +170,32 @@ pub(super) fn check_film_coefficient(label: &str, h: f64) -> Result<()> {
     Ok(())
 }
 
+/// The film coefficient of a convection boundary given by exactly one of `h` (W/(m²·K)) and
+/// `resistance` (R_s, m²·K/W, h = 1/R_s); `label` names the boundary (or the case's boundary).
+pub(super) fn film_or_resistance(label: &str, h: Option<f64>, r: Option<f64>) -> Result<f64> {
+    match (h, r) {
+        (Some(_), Some(_)) => Err(Error::input(format!(
+            "{label}: give either `h` or `resistance` (R_s = 1/h), not both"
+        ))),
+        (None, None) => Err(Error::input(format!(
+            "{label}: kind \"convection\" needs `h` (W/(m²·K)) or `resistance` (m²·K/W)"
+        ))),
+        (Some(h), None) => {
+            check_film_coefficient(label, h)?;
+            Ok(h)
+        }
+        (None, Some(r)) => {
+            let min = 1.0 / MAX_FILM_COEFFICIENT;
+            if !r.is_finite() || r < min {
+                return Err(Error::input(format!(
+                    "{label}: resistance = {r} m²·K/W must be a finite number of at least {min:e} (h = 1/R_s at most {MAX_FILM_COEFFICIENT:e} W/(m²·K); for a smaller one, fix the temperature)"
+                )));
+            }
+            Ok(1.0 / r)
+        }
+    }
+}
+
 /// A point with finite coordinates inside ±[`MAX_COORD`].
 pub(super) fn finite_point(p: [f64; 2], what: &str) -> Result<()> {
     if !p[0].is_finite() || !p[1].is_finite() {
@@ -214,15 +240,21 @@ fn validate_materials(file: &ModelFile) -> Result<MaterialTables> {
         let label = format!("materials.{}", printable(name));
         check_name(&label, name, "material")?;
         check_case_unique(&label, name, "material", &mut seen)?;
+        let label = format!("materials.{name}");
         let (conductivity, table) = match &m.conductivity {
-            ConductivityFile::Constant(k) => {
-                check_conductivity(&format!("materials.{name}"), *k)?;
-                (*k, None)
-            }
             ConductivityFile::Table { table } => {
-                let t = super::nonlinear::validate_table(&format!("materials.{name}"), table)?;
-                (t.middle(), Some(t))
+                if let Some(o) = m.orientation {
+                    return Err(Error::input(format!(
+                        "{label}: orientation = {o} needs a pair conductivity = [k_major, k_minor]; a conductivity table is isotropic (an anisotropic k(T) is not supported)"
+                    )));
+                }
+                let t = super::nonlinear::validate_table(&label, table)?;
+                (super::ConductivityLaw::Isotropic { k: t.middle() }, Some(t))
             }
+            written => (
+                super::conductivity::conductivity_law(&label, written, m.orientation)?,
+                None,
+            ),
         };
         tables.push(table);
         let q = m.heat_source.unwrap_or(0.0);
@@ -309,6 +341,7 @@ fn validate_boundaries(file: &ModelFile) -> Result<BoundaryTables> {
             name: name.clone(),
             kind,
             size: b.size,
+            resistance: b.resistance,
         });
     }
     Ok((boundaries, ids, radiation))
@@ -319,6 +352,7 @@ fn check_kind_keys(name: &str, b: &BoundaryFile, allowed: &[&str]) -> Result<()>
     let present = [
         ("temperature", b.temperature.is_some()),
         ("h", b.h.is_some()),
+        ("resistance", b.resistance.is_some()),
         ("ambient", b.ambient.is_some()),
         ("flux", b.flux.is_some()),
     ];
@@ -363,10 +397,9 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             BoundaryKind::Flux { flux: q }
         }
         "convection" => {
-            check_kind_keys(name, b, &["h", "ambient"])?;
-            let h = require(name, "h", b.h, "convection")?;
+            check_kind_keys(name, b, &["h", "resistance", "ambient"])?;
+            let h = film_or_resistance(&format!("boundaries.{name}"), b.h, b.resistance)?;
             let a = require(name, "ambient", b.ambient, "convection")?;
-            check_film_coefficient(&format!("boundaries.{name}"), h)?;
             check_temperature(a, &format!("boundaries.{name}: ambient"))?;
             BoundaryKind::Convection { h, ambient: a }
         }

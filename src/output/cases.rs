@@ -91,7 +91,8 @@ enum OverrideOut<'a> {
     },
     Material {
         material: &'a str,
-        conductivity_w_per_m_k: f64,
+        #[serde(flatten)]
+        conductivity: super::json::ConductivityOut,
         heat_source_w_per_m3: f64,
     },
 }
@@ -145,7 +146,7 @@ fn overrides<'a>(sv: &'a Solved, c: &'a CaseSolved) -> Vec<OverrideOut<'a>> {
     for m in &case.materials {
         out.push(OverrideOut::Material {
             material: &s.materials[m.id].name,
-            conductivity_w_per_m_k: m.conductivity,
+            conductivity: (&m.conductivity).into(),
             heat_source_w_per_m3: m.heat_source,
         });
     }

@@ -80,3 +80,62 @@ pub(crate) fn json_bytes<T: Serialize>(value: &T, what: &str) -> Result<Vec<u8>>
     out.push(b'\n');
     Ok(out)
 }
+
+/// A material's conductivity with unit-suffixed keys, flattened into a material record:
+/// `conductivity_w_per_m_k` for an isotropic material; the principal values, the orientation
+/// and the tensor components K = R·diag(k_major, k_minor)·Rᵀ for an anisotropic one.
+#[derive(Debug, Clone, Serialize)]
+#[serde(untagged)]
+pub(crate) enum ConductivityOut {
+    /// Isotropic k.
+    Isotropic {
+        /// W/(m·K)
+        conductivity_w_per_m_k: f64,
+    },
+    /// Anisotropic, constant.
+    Anisotropic {
+        /// W/(m·K), along the major direction.
+        conductivity_major_w_per_m_k: f64,
+        /// W/(m·K), across it.
+        conductivity_minor_w_per_m_k: f64,
+        /// Degrees from the x axis to the major direction.
+        orientation_deg: f64,
+        /// K_xx, W/(m·K).
+        conductivity_xx_w_per_m_k: f64,
+        /// K_yy, W/(m·K).
+        conductivity_yy_w_per_m_k: f64,
+        /// K_xy, W/(m·K).
+        conductivity_xy_w_per_m_k: f64,
+    },
+}
+
+impl From<&crate::model::ConductivityLaw> for ConductivityOut {
+    fn from(law: &crate::model::ConductivityLaw) -> Self {
+        use crate::model::ConductivityLaw;
+        match *law {
+            ConductivityLaw::Isotropic { k } => Self::Isotropic {
+                conductivity_w_per_m_k: k,
+            },
+            ConductivityLaw::Anisotropic {
+                k_major,
+                k_minor,
+                orientation_deg,
+            } => {
+                let d = crate::fem::Conductivity::principal(
+                    k_major,
+                    k_minor,
+                    orientation_deg.to_radians(),
+                )
+                .tensor;
+                Self::Anisotropic {
+                    conductivity_major_w_per_m_k: k_major,
+                    conductivity_minor_w_per_m_k: k_minor,
+                    orientation_deg,
+                    conductivity_xx_w_per_m_k: d[(0, 0)],
+                    conductivity_yy_w_per_m_k: d[(1, 1)],
+                    conductivity_xy_w_per_m_k: d[(0, 1)],
+                }
+            }
+        }
+    }
+}

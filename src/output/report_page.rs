@@ -200,7 +200,10 @@ fn model_section(page: &mut Page, sv: &Solved) {
         };
         t.row(vec![
             m.name.clone(),
-            fixed_short(m.conductivity),
+            match m.conductivity.isotropic() {
+                Some(k) => fixed_short(k),
+                None => m.conductivity.to_string(),
+            },
             fixed_short(m.heat_source),
             role.to_string(),
         ]);

@@ -31,19 +31,39 @@ impl Default for SolveFileOptions {
     }
 }
 
-/// field.vtu of a solve: the field, the error indicator, the load cases' temperatures and the
-/// material names, encoded with `vtk`.
+/// The conductivity tensor of each triangle, K = R·diag(k_major, k_minor)·Rᵀ, as three cell
+/// arrays `[K_xx, K_yy, K_xy]`, W/(m·K) (K_xx = K_yy = k, K_xy = 0 when isotropic; for a
+/// material with a conductivity table, k at the triangle's mean temperature of the solution).
+fn cell_conductivity(sv: &Solved) -> [Vec<f64>; 3] {
+    let mut out = [Vec::new(), Vec::new(), Vec::new()];
+    for t in 0..sv.mesh.triangles.len() {
+        let d = sv.system.triangle_conductivity(&sv.mesh, t).tensor;
+        out[0].push(d[(0, 0)]);
+        out[1].push(d[(1, 1)]);
+        out[2].push(d[(0, 1)]);
+    }
+    out
+}
+
+/// field.vtu of a solve: the field, the error indicator, the per-cell conductivity tensor, the
+/// load cases' temperatures and the material names, encoded with `vtk`.
 pub fn solve_field_vtu(sv: &Solved, vtk: &VtkOptions) -> Result<Vec<u8>> {
     let s = sv.section();
     let case_arrays = output::case_point_arrays(sv);
     let case_points: Vec<(&str, &[f64])> =
         case_arrays.iter().map(|(n, v)| (n.as_str(), *v)).collect();
     let material_names: Vec<&str> = s.materials.iter().map(|m| m.name.as_str()).collect();
+    let [kxx, kyy, kxy] = cell_conductivity(sv);
     output::field_vtu_named(
         &sv.mesh,
         &sv.results,
         &material_names,
-        &[("error_indicator", &sv.error_estimate.indicator)],
+        &[
+            ("error_indicator", &sv.error_estimate.indicator),
+            ("conductivity_xx_w_per_m_k", &kxx),
+            ("conductivity_yy_w_per_m_k", &kyy),
+            ("conductivity_xy_w_per_m_k", &kxy),
+        ],
         &case_points,
         vtk,
     )

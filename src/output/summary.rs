@@ -5,7 +5,7 @@ use super::manifest::ManifestEntry;
 use crate::CAUTION;
 use crate::error::{Error, Result};
 use crate::mesh::Mesh;
-use crate::model::{BoundaryKind, Section};
+use crate::model::{Boundary, BoundaryKind, Section};
 use crate::post::Results;
 use crate::post::estimate::ErrorEstimate;
 use crate::run::{Check, Cycle, Timings};
@@ -49,7 +49,8 @@ pub struct SummaryInputs<'a> {
 struct MaterialOut<'a> {
     id: usize,
     name: &'a str,
-    conductivity_w_per_m_k: f64,
+    #[serde(flatten)]
+    conductivity: super::json::ConductivityOut,
     /// The conductivity table `[[T °C, k W/(m·K)], …]` of a temperature-dependent material
     /// (then `conductivity_w_per_m_k` is k at the middle of its range).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -111,6 +112,9 @@ enum ConditionOut {
     },
     Convection {
         h_w_per_m2_k: f64,
+        /// The surface resistance R_s = 1/h when the boundary was given by it.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        resistance_m2_k_per_w: Option<f64>,
         ambient_c: f64,
         /// Emissivity when the convective surface also radiates.
         #[serde(skip_serializing_if = "Option::is_none")]
@@ -128,7 +132,7 @@ enum ConditionOut {
 impl ConditionOut {
     /// The condition of boundary `id` of `section`, radiation included.
     fn of(section: &Section, id: usize) -> Self {
-        let mut c = Self::from(&section.boundaries[id].kind);
+        let mut c = Self::from(&section.boundaries[id]);
         if let (
             Self::Convection {
                 emissivity,
@@ -145,9 +149,9 @@ impl ConditionOut {
     }
 }
 
-impl From<&BoundaryKind> for ConditionOut {
-    fn from(k: &BoundaryKind) -> Self {
-        match *k {
+impl From<&Boundary> for ConditionOut {
+    fn from(b: &Boundary) -> Self {
+        match b.kind {
             BoundaryKind::Fixed { temperature } => Self::Fixed {
                 temperature_c: temperature,
             },
@@ -157,6 +161,7 @@ impl From<&BoundaryKind> for ConditionOut {
             },
             BoundaryKind::Convection { h, ambient } => Self::Convection {
                 h_w_per_m2_k: h,
+                resistance_m2_k_per_w: b.resistance,
                 ambient_c: ambient,
                 emissivity: None,
                 surroundings_c: None,
@@ -314,7 +319,7 @@ fn materials<'a>(section: &'a Section, r: &'a Results) -> Vec<MaterialOut<'a>> {
             MaterialOut {
                 id: m.id,
                 name: &m.name,
-                conductivity_w_per_m_k: m.conductivity,
+                conductivity: (&m.conductivity).into(),
                 conductivity_table_c_w_per_m_k: section
                     .conductivity_table(m.id)
                     .map(|t| t.points.as_slice()),

@@ -21,7 +21,13 @@ fn ring_line(r: &Ring) -> String {
     }
 }
 
-fn kind_line(k: &BoundaryKind) -> String {
+fn kind_line(k: &BoundaryKind, resistance: Option<f64>) -> String {
+    if let (BoundaryKind::Convection { h, ambient }, Some(r)) = (k, resistance) {
+        return format!(
+            "convection, R_s = {r} m²·K/W (h = {} W/(m²·K)), ambient {ambient} °C",
+            crate::text::sig3(*h)
+        );
+    }
     match k {
         BoundaryKind::Fixed { temperature } => format!("fixed, T = {temperature} °C"),
         BoundaryKind::Insulated => "insulated".to_string(),
@@ -42,11 +48,11 @@ fn boundary_line(s: &Section, id: usize) -> String {
     match (b.kind, s.radiation(id)) {
         (BoundaryKind::Convection { .. }, Some(r)) => format!(
             "{}; radiation, emissivity {}, surroundings {} °C",
-            kind_line(&b.kind),
+            kind_line(&b.kind, b.resistance),
             r.emissivity,
             r.surroundings
         ),
-        _ => kind_line(&b.kind),
+        _ => kind_line(&b.kind, b.resistance),
     }
 }
 
@@ -191,7 +197,13 @@ fn cases_lines(o: &mut String, s: &Section) {
         let mut parts: Vec<String> = c
             .boundaries
             .iter()
-            .map(|b| format!("{}: {}", s.boundaries[b.id].name, kind_line(&b.kind)))
+            .map(|b| {
+                format!(
+                    "{}: {}",
+                    s.boundaries[b.id].name,
+                    kind_line(&b.kind, b.resistance)
+                )
+            })
             .collect();
         parts.extend(c.materials.iter().map(|m| {
             format!(
