@@ -11,6 +11,7 @@ mod echo;
 mod environments;
 mod file;
 mod ring;
+mod shapes;
 mod suggest;
 mod validate;
 
@@ -27,10 +28,11 @@ pub use environments::{
     Psi, PsiFile, ReferenceFile,
 };
 pub use file::{
-    BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
-    load, parse,
+    ArcFile, BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, PointEntry,
+    ProbeFile, RectangleFile, RingFile, load, parse,
 };
 pub use ring::{circle_segments, ring_circle_segments};
+pub use shapes::{ARC_RADIUS_TOLERANCE, Arc};
 pub use suggest::suggest;
 pub use validate::validate;
 
@@ -168,6 +170,8 @@ pub struct Ring {
     pub written_segment: Vec<usize>,
     /// The circle the ring was made from, if any.
     pub circle: Option<Circle>,
+    /// The arcs written in its `points`, each split into chords.
+    pub arcs: Vec<Arc>,
 }
 
 impl Ring {

@@ -112,6 +112,10 @@ fn echoed_demo_models_read_back_as_the_same_section() {
             include_str!("../../geometry/utility-tunnel.toml"),
         ),
         (
+            "vaulted-cable-tunnel",
+            include_str!("../../geometry/vaulted-cable-tunnel.toml"),
+        ),
+        (
             "wall-junction",
             include_str!("../../geometry/wall-junction.toml"),
         ),

@@ -409,10 +409,10 @@ fn outline_extent(r: &RingFile) -> f64 {
         }
         return 1.0;
     }
-    let pts = r.points.as_deref().unwrap_or(&[]);
+    let pts = super::shapes::sketch(r);
     let mut lo = [f64::INFINITY; 2];
     let mut hi = [f64::NEG_INFINITY; 2];
-    for p in pts {
+    for p in &pts {
         if p[0].is_finite() && p[1].is_finite() {
             for k in 0..2 {
                 lo[k] = lo[k].min(p[k]);
@@ -466,9 +466,9 @@ fn check_written_points(file: &ModelFile, max_area: f64) -> Result<()> {
         .iter()
         .chain(&file.holes)
         .chain(&file.regions)
-        .map(|r| match &r.points {
-            Some(p) => p.len(),
-            None => ring_circle_segments(r, &file.boundaries, max_area)
+        .map(|r| match &r.circle {
+            None => super::shapes::written_point_count(r, max_area),
+            Some(_) => ring_circle_segments(r, &file.boundaries, max_area)
                 .unwrap_or(0)
                 .min(MAX_CIRCLE_SEGMENTS + 1),
         })

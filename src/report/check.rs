@@ -17,7 +17,23 @@ fn ring_line(r: &Ring) -> String {
             c.segments,
             sci(c.sagitta(), 3)
         ),
-        None => format!("polygon of {} points", r.len()),
+        None => {
+            let mut line = format!("polygon of {} points", r.len());
+            for a in &r.arcs {
+                let _ = write!(
+                    line,
+                    "; arc (segment {}) centre ({}, {}) radius {} m over {}° as {} chords (sagitta {} m)",
+                    a.written_segment,
+                    a.center[0],
+                    a.center[1],
+                    a.radius,
+                    fixed(a.angle_deg, 3),
+                    a.segments,
+                    sci(a.sagitta(), 3)
+                );
+            }
+            line
+        }
     }
 }
 
