@@ -22,6 +22,7 @@ impl Section {
         let (environments, psi) = super::environments::environment_files(self);
         ModelFile {
             title: Some(self.title.clone()),
+            length_unit: None,
             mesh: MeshFile {
                 max_area: Some(self.mesh.max_area),
                 min_angle: Some(self.mesh.min_angle),

@@ -15,6 +15,10 @@ pub struct ModelFile {
     /// Title shown in reports (default "untitled").
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub title: Option<String>,
+    /// Unit of every length and area of the geometry and the mesh settings: "m" (default),
+    /// "cm" or "mm" (areas in unit²). Physical properties stay SI; outputs are in m.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub length_unit: Option<String>,
     /// `[mesh]`: global mesh controls.
     #[serde(default)]
     pub mesh: MeshFile,

@@ -13,6 +13,7 @@ mod file;
 mod ring;
 mod shapes;
 mod suggest;
+mod units;
 mod validate;
 
 #[cfg(test)]
@@ -34,6 +35,7 @@ pub use file::{
 pub use ring::{circle_segments, ring_circle_segments};
 pub use shapes::{ARC_RADIUS_TOLERANCE, Arc};
 pub use suggest::suggest;
+pub use units::{LENGTH_UNITS, in_metres, looks_like_kelvin, scale_lengths, unit_factor};
 pub use validate::validate;
 
 /// Largest accepted coordinate magnitude, m. Sections are at most kilometres across; this keeps

@@ -1,5 +1,5 @@
 //! Validation: a parsed [`ModelFile`] becomes a [`Section`] through a fixed sequence of named
-//! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
+//! steps (lengths to metres, materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
 //! cases, cuts, environments), or an
 //! error naming the offending item.
 
@@ -20,6 +20,9 @@ use std::collections::BTreeMap;
 /// Turn a parsed model file into a validated [`Section`]. Geometric checks that need more than
 /// one ring (holes inside the outline, crossings, probes inside) belong to the geometry stage.
 pub fn validate(file: &ModelFile) -> Result<Section> {
+    let unit = file.length_unit.clone();
+    let converted = super::units::in_metres(file)?;
+    let file = &converted;
     let mut warnings = Vec::new();
     let title = validate_title(file)?;
     let (materials, material_ids) = validate_materials(file)?;
@@ -48,6 +51,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let holes = build_holes(file, &ctx, &mut warnings)?;
     let regions = build_regions(file, &material_ids, &ctx, &mut warnings)?;
     naming_warnings(&outline, &holes, &boundaries, &mut warnings);
+    super::units::plausibility(&outline, &boundaries, unit.as_deref(), &mut warnings);
     Ok(Section {
         title,
         mesh,

@@ -71,9 +71,13 @@ fn section_lines(o: &mut String, p: &Prepared, estimated_triangles: f64) {
     let area = mesh::section_area(s);
     let _ = writeln!(
         o,
-        "section: area {} m², bounding-box diagonal {} m",
+        "section: area {} m², bounding-box diagonal {} m{}",
         fixed(area, 6),
-        fixed(s.diameter(), 6)
+        fixed(s.diameter(), 6),
+        match p.model.length_unit.as_deref() {
+            Some(u) if u != "m" => format!(" (model lengths in {u}, converted to m)"),
+            _ => String::new(),
+        }
     );
     let _ = writeln!(
         o,
