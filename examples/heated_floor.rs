@@ -1,6 +1,6 @@
 //! Build a section in code and solve it: an invented heated floor strip — a 0.12 m screed on
 //! 0.08 m insulation, one warm-water pipe in the screed, room air above, a cold slab below.
-use xsheat::model::{BoundaryFile, CircleFile, MaterialFile, ModelFile, RingFile};
+use xsheat::model::{BoundaryFile, CircleFile, MaterialFile, ModelFile, PointEntry, RingFile};
 
 fn main() -> Result<(), xsheat::Error> {
     let mat = |k: f64| MaterialFile {
@@ -21,13 +21,23 @@ fn main() -> Result<(), xsheat::Error> {
     m.materials.insert("insulation".into(), mat(0.035));
     m.outline = Some(RingFile {
         material: Some("screed".into()),
-        points: Some(vec![[0.0, 0.0], [0.15, 0.0], [0.15, 0.2], [0.0, 0.2]]),
+        points: Some(PointEntry::list(&[
+            [0.0, 0.0],
+            [0.15, 0.0],
+            [0.15, 0.2],
+            [0.0, 0.2],
+        ])),
         edges: Some(vec!["slab".into(), "".into(), "room".into(), "".into()]),
         ..Default::default()
     });
     m.regions.push(RingFile {
         material: Some("insulation".into()),
-        points: Some(vec![[0.0, 0.0], [0.15, 0.0], [0.15, 0.08], [0.0, 0.08]]),
+        points: Some(PointEntry::list(&[
+            [0.0, 0.0],
+            [0.15, 0.0],
+            [0.15, 0.08],
+            [0.0, 0.08],
+        ])),
         ..Default::default()
     });
     m.holes.push(RingFile {

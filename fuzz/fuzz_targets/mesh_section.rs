@@ -8,7 +8,7 @@ use libfuzzer_sys::arbitrary::{Result, Unstructured};
 use libfuzzer_sys::fuzz_target;
 use xsheat::mesh::MeshOptions;
 use xsheat::model::{
-    BoundaryFile, CircleFile, LineFile, MaterialFile, ModelFile, ProbeFile, RingFile,
+    BoundaryFile, CircleFile, LineFile, MaterialFile, ModelFile, PointEntry, ProbeFile, RingFile,
 };
 
 /// Lattice size: coordinates are integers 0..=LATTICE, times the scale, plus the offset.
@@ -79,7 +79,7 @@ fn ring(u: &mut Unstructured, f: &Frame, named: bool) -> Result<RingFile> {
                 r.boundary = Some(edge_name(u)?);
             }
         }
-        r.points = Some(pts);
+        r.points = Some(PointEntry::list(&pts));
     }
     Ok(r)
 }
@@ -171,7 +171,7 @@ fn model(u: &mut Unstructured) -> Result<ModelFile> {
     } else {
         outline.boundary = Some(edge_name(u)?);
     }
-    outline.points = Some(pts);
+    outline.points = Some(PointEntry::list(&pts));
     m.outline = Some(outline);
 
     // Boundaries: each name defined with a random kind (sometimes left undefined).

@@ -22,6 +22,7 @@ impl Section {
         let (environments, psi) = super::environments::environment_files(self);
         ModelFile {
             title: Some(self.title.clone()),
+            length_unit: None,
             mesh: MeshFile {
                 max_area: Some(self.mesh.max_area),
                 min_angle: Some(self.mesh.min_angle),
@@ -97,13 +98,61 @@ impl Section {
                 });
                 file.boundary = ring.edge_boundary.first().filter(|_| named).map(name);
             }
-            None => {
-                file.points = Some(ring.points.clone());
+            None if ring.arcs.is_empty() => {
+                file.points = Some(super::PointEntry::list(&ring.points));
                 file.edges = named.then(|| ring.edge_boundary.iter().map(name).collect());
+            }
+            None => {
+                let (points, names) = arc_entries(ring);
+                file.points = Some(points);
+                file.edges = named.then(|| names.iter().map(name).collect());
             }
         }
         file
     }
+}
+
+/// The `points` entries of a ring with arcs, each arc written back as one entry with its
+/// centre, end, sense and chord count (so that it is one segment again), and the boundary id of
+/// each written segment. The entries start at a segment boundary and end with a closing point
+/// (the first repeated), so there is one name per segment.
+fn arc_entries(ring: &Ring) -> (Vec<super::PointEntry>, Vec<Option<usize>>) {
+    use super::{ArcFile, PointEntry};
+    let n = ring.len();
+    let w = &ring.written_segment;
+    let first = (0..n).find(|&i| w[i] != w[(i + n - 1) % n]).unwrap_or(0);
+    let mut entries = Vec::new();
+    let mut names = Vec::new();
+    let mut i = 0;
+    while i < n {
+        let at = (first + i) % n;
+        let mut run = 1;
+        while i + run < n && w[(first + i + run) % n] == w[at] {
+            run += 1;
+        }
+        if i == 0 {
+            entries.push(PointEntry::Point(ring.points[at]));
+        }
+        names.push(ring.edge_boundary[at]);
+        let end = ring.points[(first + i + run) % n];
+        match ring.arcs.iter().find(|a| a.written_segment == w[at]) {
+            Some(a) => {
+                let (p, q, c) = (ring.points[at], ring.points[(at + 1) % n], a.center);
+                let turn = (p[0] - c[0]) * (q[1] - c[1]) - (p[1] - c[1]) * (q[0] - c[0]);
+                entries.push(PointEntry::Arc {
+                    arc: ArcFile {
+                        center: c,
+                        to: end,
+                        direction: if turn >= 0.0 { "ccw" } else { "cw" }.to_string(),
+                        segments: Some(run),
+                    },
+                });
+            }
+            None => entries.push(PointEntry::Point(end)),
+        }
+        i += run;
+    }
+    (entries, names)
 }
 
 /// One boundary as written: its kind's name and values, its radiation, and its size.

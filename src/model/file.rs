@@ -15,6 +15,10 @@ pub struct ModelFile {
     /// Title shown in reports (default "untitled").
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub title: Option<String>,
+    /// Unit of every length and area of the geometry and the mesh settings: "m" (default),
+    /// "cm" or "mm" (areas in unit²). Physical properties stay SI; outputs are in m.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub length_unit: Option<String>,
     /// `[mesh]`: global mesh controls.
     #[serde(default)]
     pub mesh: MeshFile,
@@ -92,16 +96,16 @@ pub struct RingFile {
     /// Material inside the ring (outline and regions).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub material: Option<String>,
-    /// Corner points, m.
-    #[serde(
-        default,
-        skip_serializing_if = "Option::is_none",
-        deserialize_with = "opt_points"
-    )]
-    pub points: Option<Vec<[f64; 2]>>,
+    /// Corner points `[x, y]`, m, and arcs `{ arc = { center, to, direction } }` (see
+    /// [`PointEntry`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub points: Option<Vec<PointEntry>>,
     /// A circle instead of points.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub circle: Option<CircleFile>,
+    /// An axis-parallel rectangle instead of points.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub rectangle: Option<RectangleFile>,
     /// Boundary name of each segment ("" = unnamed).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub edges: Option<Vec<String>>,
@@ -122,6 +126,111 @@ pub struct CircleFile {
     /// Segment count of the inscribed polygon (default: from max_area or the boundary's size).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub segments: Option<usize>,
+}
+
+/// An axis-parallel rectangle as written: its four segments run from `corner` along +x, then
+/// +y, then −x, then −y (bottom, right, top, left for positive sizes).
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct RectangleFile {
+    /// The corner with the smallest x and y, m.
+    #[serde(deserialize_with = "point_corner")]
+    pub corner: [f64; 2],
+    /// Size along x, m, > 0.
+    pub width: f64,
+    /// Size along y, m, > 0.
+    pub height: f64,
+}
+
+/// One entry of a ring's `points`: a corner `[x, y]`, or an arc from the previous point (the
+/// last one for the first entry) to `to` around `center`.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(untagged)]
+pub enum PointEntry {
+    /// A corner point, m.
+    Point([f64; 2]),
+    /// `{ arc = { ... } }`: an arc ending at its `to` point.
+    Arc {
+        /// The arc.
+        arc: ArcFile,
+    },
+}
+
+impl From<[f64; 2]> for PointEntry {
+    fn from(p: [f64; 2]) -> Self {
+        PointEntry::Point(p)
+    }
+}
+
+impl PointEntry {
+    /// Corner points as `points` entries.
+    pub fn list(points: &[[f64; 2]]) -> Vec<PointEntry> {
+        points.iter().map(|&p| PointEntry::Point(p)).collect()
+    }
+    /// The vertex this entry puts on the ring: the point, or the arc's end `to`.
+    pub fn vertex(&self) -> [f64; 2] {
+        match self {
+            PointEntry::Point(p) => *p,
+            PointEntry::Arc { arc } => arc.to,
+        }
+    }
+}
+
+/// An arc of a ring as written: from the previous point to `to` around `center`.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ArcFile {
+    /// Centre, m.
+    #[serde(deserialize_with = "point_center")]
+    pub center: [f64; 2],
+    /// End point, m (the start is the previous point of the ring).
+    #[serde(deserialize_with = "point_to")]
+    pub to: [f64; 2],
+    /// `"ccw"` (counter-clockwise) or `"cw"` (clockwise) from the start to `to`.
+    pub direction: String,
+    /// Chord count (default: the circle rule for the arc's share of a full turn).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segments: Option<usize>,
+}
+
+/// Reads one `points` entry: a point of two numbers or a table `{ arc = {...} }`.
+struct EntryVisitor;
+
+impl<'de> serde::de::Visitor<'de> for EntryVisitor {
+    type Value = PointEntry;
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        write!(
+            f,
+            "`points`: a point [x, y] or an arc {{ arc = {{ center = [x, y], to = [x, y], direction = \"ccw\" }} }}"
+        )
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(
+        self,
+        seq: A,
+    ) -> std::result::Result<PointEntry, A::Error> {
+        PointVisitor("points")
+            .visit_seq(seq)
+            .map(|p| PointEntry::Point(p.0))
+    }
+    fn visit_map<A: serde::de::MapAccess<'de>>(
+        self,
+        map: A,
+    ) -> std::result::Result<PointEntry, A::Error> {
+        /// The table around an arc.
+        #[derive(Deserialize)]
+        #[serde(deny_unknown_fields)]
+        struct ArcEntry {
+            arc: ArcFile,
+        }
+        let e = ArcEntry::deserialize(serde::de::value::MapAccessDeserializer::new(map))?;
+        Ok(PointEntry::Arc { arc: e.arc })
+    }
+}
+
+impl<'de> Deserialize<'de> for PointEntry {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        d.deserialize_any(EntryVisitor)
+    }
 }
 
 /// A boundary condition as written. Kept flat so that a key that does not belong to the kind
@@ -243,20 +352,17 @@ fn point_center<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[
     d.deserialize_seq(PointVisitor("center")).map(|p| p.0)
 }
 
+/// Deserializes the point of key `corner`, exactly two numbers.
+fn point_corner<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+    d.deserialize_seq(PointVisitor("corner")).map(|p| p.0)
+}
+
 /// Deserializes a list of points, each exactly two numbers.
 pub(super) fn points_list<'de, D: serde::Deserializer<'de>>(
     d: D,
 ) -> std::result::Result<Vec<[f64; 2]>, D::Error> {
     let v: Vec<Point2> = Vec::deserialize(d)?;
     Ok(v.into_iter().map(|p| p.0).collect())
-}
-
-/// Deserializes an optional list of points, each exactly two numbers.
-fn opt_points<'de, D: serde::Deserializer<'de>>(
-    d: D,
-) -> std::result::Result<Option<Vec<[f64; 2]>>, D::Error> {
-    let v: Option<Vec<Point2>> = Option::deserialize(d)?;
-    Ok(v.map(|v| v.into_iter().map(|p| p.0).collect()))
 }
 
 /// Parse the TOML text of a model file. Syntax errors, unknown keys and wrong types are

@@ -13,7 +13,9 @@ mod environments;
 mod file;
 mod nonlinear;
 mod ring;
+mod shapes;
 mod suggest;
+mod units;
 mod validate;
 
 #[cfg(test)]
@@ -30,12 +32,14 @@ pub use environments::{
     Psi, PsiFile, ReferenceFile,
 };
 pub use file::{
-    BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
-    load, parse,
+    ArcFile, BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, PointEntry,
+    ProbeFile, RectangleFile, RingFile, load, parse,
 };
 pub use nonlinear::{ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN};
 pub use ring::{circle_segments, ring_circle_segments};
+pub use shapes::{ARC_RADIUS_TOLERANCE, Arc};
 pub use suggest::suggest;
+pub use units::{LENGTH_UNITS, in_metres, looks_like_kelvin, scale_lengths, unit_factor};
 pub use validate::validate;
 
 /// Largest accepted coordinate magnitude, m. Sections are at most kilometres across; this keeps
@@ -187,6 +191,8 @@ pub struct Ring {
     pub written_segment: Vec<usize>,
     /// The circle the ring was made from, if any.
     pub circle: Option<Circle>,
+    /// The arcs written in its `points`, each split into chords.
+    pub arcs: Vec<Arc>,
 }
 
 impl Ring {

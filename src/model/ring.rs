@@ -1,6 +1,7 @@
 //! Rings as validated: a written ring (points or circle, with its boundary names) becomes a
 //! counter-clockwise [`Ring`] without repeated points, each segment keeping its name.
 
+use super::shapes::{ArcRule, Expanded, expand, sketch, written_ring};
 use super::suggest::{did_you_mean, known_list};
 use super::validate::finite_point;
 use super::{BoundaryFile, Circle, MAX_CIRCLE_SEGMENTS, MAX_COORD, Ring, RingFile};
@@ -47,14 +48,18 @@ pub fn ring_circle_segments(
     Some(n)
 }
 
-/// Raw area of a ring as written (|shoelace| of the points, or πr²), for the default size.
+/// Raw area of a ring as written (|shoelace| of the points with arcs sketched, or πr²), for
+/// the default size.
 pub(super) fn raw_area(r: &RingFile) -> f64 {
     if let Some(c) = &r.circle {
         std::f64::consts::PI * c.radius * c.radius
-    } else if let Some(p) = &r.points {
-        polygon_area(p).abs()
     } else {
-        0.0
+        let p = sketch(r);
+        if p.len() < 3 {
+            0.0
+        } else {
+            polygon_area(&p).abs()
+        }
     }
 }
 
@@ -106,12 +111,37 @@ pub(super) fn build_ring(
     warnings: &mut Vec<String>,
 ) -> Result<Ring> {
     check_ring_keys(label, r, ctx)?;
-    let (written, circle) = match &r.circle {
-        Some(c) => circle_points(label, r, c, ctx)?,
-        None => (polygon_points(label, r)?, None),
+    let (expanded, circle) = match &r.circle {
+        Some(c) => {
+            let (points, circle) = circle_points(label, r, c, ctx)?;
+            let names = segment_names(label, r, ctx, points.len())?;
+            let written = (0..points.len()).collect();
+            let e = Expanded {
+                points,
+                names,
+                written,
+                arcs: Vec::new(),
+            };
+            (e, circle)
+        }
+        None => {
+            let w = written_ring(label, r, ctx.tol)?;
+            let names = segment_names(label, r, ctx, w.vertices.len())?;
+            let name_of = |k: usize| match (&r.edges, &r.boundary) {
+                (Some(e), _) => e.get(k).cloned().unwrap_or_default(),
+                (None, Some(b)) => b.clone(),
+                (None, None) => String::new(),
+            };
+            let rule = ArcRule {
+                boundaries: ctx.boundaries,
+                max_area: ctx.max_area,
+                tol: ctx.tol,
+            };
+            (expand(label, &w, &names, &name_of, &rule)?, None)
+        }
     };
-    let names = segment_names(label, r, ctx, written.len())?;
-    let mut segs = drop_repeats(label, r, &written, &names, ctx.tol, warnings);
+    let arcs = expanded.arcs.clone();
+    let mut segs = drop_repeats(label, r, &expanded, ctx.tol, warnings);
     if segs.points.len() < 3 {
         return Err(Error::input(format!(
             "{label}: a ring needs at least 3 distinct points, found {}",
@@ -129,23 +159,35 @@ pub(super) fn build_ring(
         edge_boundary: segs.edge_boundary,
         written_segment: segs.written_segment,
         circle,
+        arcs,
     })
 }
 
-/// Exactly one of `points`/`circle`, at most one of `edges`/`boundary`, no names on regions.
+/// Exactly one of `points`/`circle`/`rectangle`, at most one of `edges`/`boundary`, no names
+/// on regions.
 fn check_ring_keys(label: &str, r: &RingFile, ctx: &RingContext) -> Result<()> {
-    match (&r.points, &r.circle) {
-        (Some(_), Some(_)) => {
+    let given: Vec<&str> = [
+        ("points", r.points.is_some()),
+        ("circle", r.circle.is_some()),
+        ("rectangle", r.rectangle.is_some()),
+    ]
+    .iter()
+    .filter(|(_, g)| *g)
+    .map(|(k, _)| *k)
+    .collect();
+    match given.len() {
+        0 => {
             return Err(Error::input(format!(
-                "{label}: give either `points` or `circle`, not both"
+                "{label}: missing `points`, `circle` or `rectangle`"
             )));
         }
-        (None, None) => {
+        1 => {}
+        _ => {
             return Err(Error::input(format!(
-                "{label}: missing `points` or `circle`"
+                "{label}: give one of `points`, `circle` and `rectangle`, not {}",
+                given.join(" and ")
             )));
         }
-        _ => {}
     }
     if r.edges.is_some() && r.boundary.is_some() {
         return Err(Error::input(format!(
@@ -216,15 +258,6 @@ fn circle_points(
     Ok((pts, Some(circle)))
 }
 
-/// The written points of a polygon ring, each checked finite and in range.
-fn polygon_points(label: &str, r: &RingFile) -> Result<Vec<[f64; 2]>> {
-    let pts = r.points.clone().unwrap_or_default();
-    for (i, p) in pts.iter().enumerate() {
-        finite_point(*p, &format!("{label}: points[{i}]"))?;
-    }
-    Ok(pts)
-}
-
 /// Boundary id per written segment, from `edges` or the uniform `boundary`.
 fn segment_names(
     label: &str,
@@ -240,7 +273,7 @@ fn segment_names(
         Some(edges) => {
             if edges.len() != n {
                 return Err(Error::input(format!(
-                    "{label}: `edges` has {} names but the ring has {n} segments (one per point, the last closing the ring)",
+                    "{label}: `edges` has {} names but the ring has {n} segments (one per point, the last closing the ring; a last point repeating the first adds none)",
                     edges.len()
                 )));
             }
@@ -258,28 +291,28 @@ fn segment_names(
 fn drop_repeats(
     label: &str,
     r: &RingFile,
-    written: &[[f64; 2]],
-    names: &[Option<usize>],
+    e: &Expanded,
     tol: f64,
     warnings: &mut Vec<String>,
 ) -> Segments {
-    let n = written.len();
+    let n = e.points.len();
     let mut segs = Segments {
         points: Vec::new(),
         edge_boundary: Vec::new(),
         written_segment: Vec::new(),
     };
     for i in 0..n {
-        let (p, q) = (written[i], written[(i + 1) % n]);
+        let (p, q) = (e.points[i], e.points[(i + 1) % n]);
         if n > 1 && distance(p, q) <= tol {
+            let k = e.written[i];
             let name = r
                 .edges
                 .as_ref()
-                .map(|e| e[i].clone())
+                .and_then(|names| names.get(k).cloned())
                 .filter(|s| !s.is_empty());
             warnings.push(format!(
-                "{label}: point {} repeats point {i} at ({}, {}); dropped with its zero-length segment {i}{}",
-                (i + 1) % n,
+                "{label}: point {} repeats point {k} at ({}, {}); dropped with its zero-length segment {k}{}",
+                e.written[(i + 1) % n],
                 q[0],
                 q[1],
                 name.map(|s| format!(" (named \"{s}\")")).unwrap_or_default()
@@ -287,8 +320,8 @@ fn drop_repeats(
             continue;
         }
         segs.points.push(p);
-        segs.edge_boundary.push(names[i]);
-        segs.written_segment.push(i);
+        segs.edge_boundary.push(e.names[i]);
+        segs.written_segment.push(e.written[i]);
     }
     segs
 }

@@ -111,6 +111,11 @@ fn echoed_demo_models_read_back_as_the_same_section() {
             "utility-tunnel",
             include_str!("../../geometry/utility-tunnel.toml"),
         ),
+        ("parapet-mm", include_str!("../../geometry/parapet-mm.toml")),
+        (
+            "vaulted-cable-tunnel",
+            include_str!("../../geometry/vaulted-cable-tunnel.toml"),
+        ),
         (
             "wall-junction",
             include_str!("../../geometry/wall-junction.toml"),

@@ -1,5 +1,5 @@
 //! Validation: a parsed [`ModelFile`] becomes a [`Section`] through a fixed sequence of named
-//! steps (materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
+//! steps (lengths to metres, materials, boundaries, mesh settings, rings, naming warnings, probes, lines, load
 //! cases, cuts, environments), or an
 //! error naming the offending item.
 
@@ -20,6 +20,9 @@ use std::collections::BTreeMap;
 /// Turn a parsed model file into a validated [`Section`]. Geometric checks that need more than
 /// one ring (holes inside the outline, crossings, probes inside) belong to the geometry stage.
 pub fn validate(file: &ModelFile) -> Result<Section> {
+    let unit = file.length_unit.clone();
+    let converted = super::units::in_metres(file)?;
+    let file = &converted;
     let mut warnings = Vec::new();
     let title = validate_title(file)?;
     let (materials, material_ids, tables) = validate_materials(file)?;
@@ -50,6 +53,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let holes = build_holes(file, &ctx, &mut warnings)?;
     let regions = build_regions(file, &material_ids, &ctx, &mut warnings)?;
     naming_warnings(&outline, &holes, &boundaries, &mut warnings);
+    super::units::plausibility(&outline, &boundaries, unit.as_deref(), &mut warnings);
     Ok(Section {
         title,
         mesh,
@@ -486,10 +490,10 @@ fn outline_extent(r: &RingFile) -> f64 {
         }
         return 1.0;
     }
-    let pts = r.points.as_deref().unwrap_or(&[]);
+    let pts = super::shapes::sketch(r);
     let mut lo = [f64::INFINITY; 2];
     let mut hi = [f64::NEG_INFINITY; 2];
-    for p in pts {
+    for p in &pts {
         if p[0].is_finite() && p[1].is_finite() {
             for k in 0..2 {
                 lo[k] = lo[k].min(p[k]);
@@ -543,9 +547,9 @@ fn check_written_points(file: &ModelFile, max_area: f64) -> Result<()> {
         .iter()
         .chain(&file.holes)
         .chain(&file.regions)
-        .map(|r| match &r.points {
-            Some(p) => p.len(),
-            None => ring_circle_segments(r, &file.boundaries, max_area)
+        .map(|r| match &r.circle {
+            None => super::shapes::written_point_count(r, max_area),
+            Some(_) => ring_circle_segments(r, &file.boundaries, max_area)
                 .unwrap_or(0)
                 .min(MAX_CIRCLE_SEGMENTS + 1),
         })

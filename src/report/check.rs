@@ -17,7 +17,23 @@ fn ring_line(r: &Ring) -> String {
             c.segments,
             sci(c.sagitta(), 3)
         ),
-        None => format!("polygon of {} points", r.len()),
+        None => {
+            let mut line = format!("polygon of {} points", r.len());
+            for a in &r.arcs {
+                let _ = write!(
+                    line,
+                    "; arc (segment {}) centre ({}, {}) radius {} m over {}° as {} chords (sagitta {} m)",
+                    a.written_segment,
+                    a.center[0],
+                    a.center[1],
+                    a.radius,
+                    fixed(a.angle_deg, 3),
+                    a.segments,
+                    sci(a.sagitta(), 3)
+                );
+            }
+            line
+        }
     }
 }
 
@@ -79,9 +95,13 @@ fn section_lines(o: &mut String, p: &Prepared, estimated_triangles: f64) {
     let area = mesh::section_area(s);
     let _ = writeln!(
         o,
-        "section: area {} m², bounding-box diagonal {} m",
+        "section: area {} m², bounding-box diagonal {} m{}",
         fixed(area, 6),
-        fixed(s.diameter(), 6)
+        fixed(s.diameter(), 6),
+        match p.model.length_unit.as_deref() {
+            Some(u) if u != "m" => format!(" (model lengths in {u}, converted to m)"),
+            _ => String::new(),
+        }
     );
     let _ = writeln!(
         o,
