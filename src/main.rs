@@ -242,6 +242,16 @@ fn wrote(count: usize, dir: &Path) -> String {
     format!("wrote {count} {files} to {}", dir.display())
 }
 
+/// The files a run reads: the model and the files it imports (`[geojson]`), none of which an
+/// output may replace.
+fn inputs<'a>(model: &'a Path, p: &'a run::Prepared) -> Vec<&'a Path> {
+    let mut v = vec![model];
+    if let Some(i) = &p.model.imported {
+        v.extend(i.files.iter().map(PathBuf::as_path));
+    }
+    v
+}
+
 fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     let p = run::prepare(&a.model)?;
@@ -255,8 +265,9 @@ fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
 
 fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
-    let target = output::check_out_file(&a.out, &[&a.model])?;
+    output::check_out_file(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    let target = output::check_out_file(&a.out, &inputs(&a.model, &p))?;
     let m = run::mesh(&p, &o)?;
     let vtk = output::VtkOptions {
         compress: a.vtk_compress,
@@ -274,7 +285,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
-    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
+    output::ResultDir::check(&a.out, &[&a.model])?;
     let mut matrix_out = match &a.export_matrix {
         Some(dir) => Some(matrix_dir(dir, &a.out, &a.model)?),
         None => None,
@@ -282,6 +293,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let parse_started = std::time::Instant::now();
     let p = run::prepare(&a.model)?;
     let parse_s = parse_started.elapsed().as_secs_f64();
+    let mut out = output::ResultDir::check(&a.out, &inputs(&a.model, &p))?;
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {
         m.lock(con.wait)?;

@@ -10,6 +10,7 @@ mod cuts;
 mod echo;
 mod environments;
 mod file;
+mod import;
 mod ring;
 mod suggest;
 mod validate;
@@ -30,6 +31,7 @@ pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
     load, parse,
 };
+pub use import::{GeojsonFile, Imported, MAX_IMPORT_FILE_BYTES, resolve_imports};
 pub use ring::{circle_segments, ring_circle_segments};
 pub use suggest::suggest;
 pub use validate::validate;
@@ -258,6 +260,8 @@ pub struct Section {
     pub cuts: Vec<Cut>,
     /// Environments and ψ declarations (`[environments]`, `[[psi]]`).
     pub environments: Environments,
+    /// `[geojson]` as written (its rings are in `outline`, `regions` and `holes`).
+    pub geojson: Option<GeojsonFile>,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

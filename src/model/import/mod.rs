@@ -1,0 +1,117 @@
+//! Rings from other files: `[geojson]` (RFC 7946 features, `geojson.rs`). Each importer turns its file into written rings ([`RingFile`]s with
+//! points and one boundary name per real segment, in metres), exactly what the same rings
+//! typed in the model file would be; [`resolve_imports`] puts them into the model beside its
+//! inline `[outline]`, `[[regions]]` and `[[holes]]`, so every check of a written ring applies to
+//! them too. Paths are relative to the model file.
+
+mod geojson;
+
+use super::RingFile;
+use super::file::ModelFile;
+use crate::error::{Error, Result, printable};
+use serde::{Deserialize, Serialize};
+use std::path::{Path, PathBuf};
+
+/// Largest GeoJSON or DXF file accepted, bytes (64 MiB), checked before the file is read.
+pub const MAX_IMPORT_FILE_BYTES: u64 = 64 * 1024 * 1024;
+
+/// `[geojson]` as written.
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct GeojsonFile {
+    /// Path of the GeoJSON file, relative to the model file. Coordinates are metres in a local
+    /// plane (no map projection).
+    pub file: String,
+}
+
+/// What the import read (kept with the model file, never written in one).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Imported {
+    /// Every file read, as resolved against the model file's directory (inputs of the run: no
+    /// output may replace them).
+    pub files: Vec<PathBuf>,
+    /// Warnings of the import (ignored entities, altitudes, unmapped layers, ...).
+    pub warnings: Vec<String>,
+}
+
+/// Rings read from one file.
+#[derive(Debug, Default)]
+struct ImportedRings {
+    outline: Option<RingFile>,
+    regions: Vec<RingFile>,
+    holes: Vec<RingFile>,
+}
+
+/// Read the file named by `[geojson]` (relative to `dir`, the model file's
+/// directory) and put their rings into `file`: the file's outline unless the model has an
+/// inline `[outline]`, its regions and holes before the inline ones (a later region wins
+/// where regions overlap, so inline regions lie on top). Does nothing for a model without
+/// either table.
+pub fn resolve_imports(file: &mut ModelFile, dir: &Path) -> Result<()> {
+    let mut imported = Imported::default();
+    let rings = match &file.geojson {
+        None => return Ok(()),
+        Some(g) => {
+            let path = dir.join(&g.file);
+            let label = format!("[geojson] file \"{}\"", printable(&g.file));
+            let bytes = read_import(&path, &label)?;
+            imported.files.push(path);
+            let text = String::from_utf8(bytes)
+                .map_err(|_| Error::input(format!("{label}: not UTF-8 text")))?;
+            let prefix = printable(&g.file);
+            geojson::rings(&text, &prefix, file.outline.is_some(), &mut imported)?
+        }
+    };
+    if let Some(o) = rings.outline {
+        file.outline = Some(o);
+    }
+    file.regions.splice(0..0, rings.regions);
+    file.holes.splice(0..0, rings.holes);
+    file.imported = Some(imported);
+    Ok(())
+}
+
+/// Refuses a model whose `[geojson]` was not read (a model validated from memory
+/// rather than loaded from its file), and returns the import's warnings.
+pub(super) fn import_warnings(file: &ModelFile) -> Result<Vec<String>> {
+    if file.geojson.is_none() {
+        return Ok(Vec::new());
+    }
+    match &file.imported {
+        Some(i) => Ok(i.warnings.clone()),
+        None => Err(Error::input(
+            "[geojson]: the file it names is read relative to the model file; load the model from its file (model::load) or call model::resolve_imports first",
+        )),
+    }
+}
+
+/// The bytes of an imported file, refused above [`MAX_IMPORT_FILE_BYTES`].
+fn read_import(path: &Path, label: &str) -> Result<Vec<u8>> {
+    use std::io::Read;
+    let cannot =
+        |e: std::io::Error| Error::input(format!("{label}: cannot read {}: {e}", path.display()));
+    let f = std::fs::File::open(path).map_err(cannot)?;
+    let mut bytes = Vec::new();
+    f.take(MAX_IMPORT_FILE_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(cannot)?;
+    if bytes.len() as u64 > MAX_IMPORT_FILE_BYTES {
+        return Err(Error::input(format!(
+            "{label}: larger than the limit of {MAX_IMPORT_FILE_BYTES} bytes (64 MiB)"
+        )));
+    }
+    Ok(bytes)
+}
+
+/// A ring's points without the closing point: the last point is dropped when it equals the
+/// first (the closing-point convention of GeoJSON and closed CAD polylines), so every name
+/// belongs to a real segment.
+fn open_ring(mut points: Vec<[f64; 2]>) -> Vec<[f64; 2]> {
+    if points.len() > 1 && points.first() == points.last() {
+        points.pop();
+    }
+    points
+}
+
+#[cfg(test)]
+mod tests;
