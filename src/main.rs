@@ -242,7 +242,7 @@ fn wrote(count: usize, dir: &Path) -> String {
     format!("wrote {count} {files} to {}", dir.display())
 }
 
-/// The files a run reads: the model and the files it imports (`[geojson]`), none of which an
+/// The files a run reads: the model and the files it imports (`[geojson]`, `[drawing]`), none of which an
 /// output may replace.
 fn inputs<'a>(model: &'a Path, p: &'a run::Prepared) -> Vec<&'a Path> {
     let mut v = vec![model];

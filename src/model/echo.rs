@@ -75,6 +75,7 @@ impl Section {
             environments,
             psi,
             geojson: self.geojson.clone(),
+            drawing: self.drawing.clone(),
             imported: None,
         }
     }

@@ -55,6 +55,9 @@ pub struct ModelFile {
     /// `[geojson]`: outline, regions and holes read from a GeoJSON file.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub geojson: Option<super::GeojsonFile>,
+    /// `[drawing]`: outline, regions and holes read from a DXF drawing.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drawing: Option<super::DrawingFile>,
     /// What [`super::resolve_imports`] read from the files named above (never written in a
     /// model file; `None` until resolved).
     #[serde(skip)]

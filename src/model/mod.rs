@@ -31,7 +31,9 @@ pub use file::{
     BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, ProbeFile, RingFile,
     load, parse,
 };
-pub use import::{GeojsonFile, Imported, MAX_IMPORT_FILE_BYTES, resolve_imports};
+pub use import::{
+    DrawingFile, GeojsonFile, Imported, LayerFile, MAX_IMPORT_FILE_BYTES, resolve_imports,
+};
 pub use ring::{circle_segments, ring_circle_segments};
 pub use suggest::suggest;
 pub use validate::validate;
@@ -262,6 +264,8 @@ pub struct Section {
     pub environments: Environments,
     /// `[geojson]` as written (its rings are in `outline`, `regions` and `holes`).
     pub geojson: Option<GeojsonFile>,
+    /// `[drawing]` as written (its rings are in `outline`, `regions` and `holes`).
+    pub drawing: Option<DrawingFile>,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

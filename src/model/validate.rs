@@ -64,6 +64,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         cuts,
         environments,
         geojson: file.geojson.clone(),
+        drawing: file.drawing.clone(),
         warnings,
         validated: Validated,
     })
