@@ -315,6 +315,16 @@ fn wrote(count: usize, dir: &Path) -> String {
     format!("wrote {count} {files} to {}", dir.display())
 }
 
+/// The files a run reads: the model and the files it imports (`[geojson]`, `[drawing]`), none of which an
+/// output may replace.
+fn inputs<'a>(model: &'a Path, p: &'a run::Prepared) -> Vec<&'a Path> {
+    let mut v = vec![model];
+    if let Some(i) = &p.model.imported {
+        v.extend(i.files.iter().map(PathBuf::as_path));
+    }
+    v
+}
+
 fn check(a: CheckArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     let p = run::prepare(&a.model)?;
@@ -335,12 +345,19 @@ fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
         ));
     }
     let size = a.picture.options()?.size;
-    let target = output::check_out_file(&a.out, &[&a.model])?;
+    // Checked before the (possibly long) preparation against the model, and again once the
+    // imported files are known.
+    output::check_out_file(&a.out, &[&a.model])?;
+    if a.plot {
+        mesh_picture_path(&a.out, &[&a.model])?;
+    }
+    let p = run::prepare(&a.model)?;
+    let inputs = inputs(&a.model, &p);
+    let target = output::check_out_file(&a.out, &inputs)?;
     let picture_target = match a.plot {
-        true => Some(mesh_picture_path(&a.out, &a.model)?),
+        true => Some(mesh_picture_path(&a.out, &inputs)?),
         false => None,
     };
-    let p = run::prepare(&a.model)?;
     let m = run::mesh(&p, &o)?;
     let vtk = output::VtkOptions {
         compress: a.vtk_compress,
@@ -373,7 +390,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     } else {
         None
     };
-    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
+    output::ResultDir::check(&a.out, &[&a.model])?;
     let mut matrix_out = match &a.export_matrix {
         Some(dir) => Some(matrix_dir(dir, &a.out, &a.model)?),
         None => None,
@@ -382,6 +399,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let mut p = run::prepare(&a.model)?;
     p.nonlinear = method;
     let parse_s = parse_started.elapsed().as_secs_f64();
+    let mut out = output::ResultDir::check(&a.out, &inputs(&a.model, &p))?;
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {
         m.lock(con.wait)?;
@@ -433,7 +451,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
 
 /// The picture beside `mesh --out PATH`: PATH with the extension `.svg` (checked like PATH;
 /// refused when PATH itself ends in `.svg`). Returns the checked target and the path as shown.
-fn mesh_picture_path(out: &Path, model: &Path) -> xsheat::Result<(PathBuf, PathBuf)> {
+fn mesh_picture_path(out: &Path, inputs: &[&Path]) -> xsheat::Result<(PathBuf, PathBuf)> {
     if out
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("svg"))
@@ -444,7 +462,9 @@ fn mesh_picture_path(out: &Path, model: &Path) -> xsheat::Result<(PathBuf, PathB
         )));
     }
     let shown = out.with_extension("svg");
-    Ok((output::check_out_file(&shown, &[model, out])?, shown))
+    let mut refused = inputs.to_vec();
+    refused.push(out);
+    Ok((output::check_out_file(&shown, &refused)?, shown))
 }
 
 /// The `--export-matrix` directory, checked: not the `--out` directory, neither inside the
@@ -479,8 +499,9 @@ fn report_failed_checks(solved: &run::Solved, con: &Console) {
 fn plot(a: PlotArgs, con: &Console) -> xsheat::Result<()> {
     let options = a.picture.options()?;
     let o = a.limit.options()?;
-    let mut out = output::ResultDir::check(&a.dir, &[&a.model])?;
+    output::ResultDir::check(&a.dir, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    let mut out = output::ResultDir::check(&a.dir, &inputs(&a.model, &p))?;
     out.lock(con.wait)?;
     let old = output::read_solve_set(&a.dir)?;
     let solved = run::solve(p, &o)?;
@@ -498,8 +519,9 @@ fn plot(a: PlotArgs, con: &Console) -> xsheat::Result<()> {
 fn convergence(a: ConvergeArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     converge::check_levels(a.levels)?;
-    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
+    output::ResultDir::check(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    let mut out = output::ResultDir::check(&a.out, &inputs(&a.model, &p))?;
     out.lock(con.wait)?;
     let study = converge::convergence_study(&p, a.levels, &o)?;
     let written = out.commit(&output::convergence_files(&study)?)?;
@@ -540,8 +562,9 @@ fn gridcheck(a: GridcheckArgs, con: &Console) -> xsheat::Result<()> {
     let hs = crosscheck::spacings(&a.spacing, a.levels)?;
     let o = a.limit.options()?;
     crosscheck::check_fe_max_area(a.fe_max_area)?;
-    let mut out = output::ResultDir::check(&a.out, &[&a.model])?;
+    output::ResultDir::check(&a.out, &[&a.model])?;
     let p = run::prepare(&a.model)?;
+    let mut out = output::ResultDir::check(&a.out, &inputs(&a.model, &p))?;
     out.lock(con.wait)?;
     let check = crosscheck::grid_check(p, &o, a.fe_max_area, &hs)?;
     let written = out.commit(&output::gridcheck_outputs(&check)?)?;
@@ -555,8 +578,11 @@ fn gridcheck(a: GridcheckArgs, con: &Console) -> xsheat::Result<()> {
 fn compare(a: CompareArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     crosscheck::check_fe_max_area(a.fe_max_area)?;
-    let mut out = output::ResultDir::check(&a.out, &[&a.model, &a.grid_file])?;
+    output::ResultDir::check(&a.out, &[&a.model, &a.grid_file])?;
     let p = run::prepare(&a.model)?;
+    let mut refused = inputs(&a.model, &p);
+    refused.push(&a.grid_file);
+    let mut out = output::ResultDir::check(&a.out, &refused)?;
     let user = crosscheck::read_user_grid(&a.grid_file)?;
     out.lock(con.wait)?;
     let solved = crosscheck::solve_element(p, &o, a.fe_max_area)?;

@@ -17,7 +17,9 @@ impl Section {
 
     /// The section as a model file with every resolved value written out: title, max_area and
     /// min_angle, heat sources, circle segment counts, and rings as validated (repeated points
-    /// dropped, counter-clockwise, one boundary name per segment).
+    /// dropped, counter-clockwise, one boundary name per segment). Rings read from a
+    /// `[geojson]` or `[drawing]` file are written out as points, with the table kept as a
+    /// record of where they came from (remove it to read the echo back as a model).
     pub fn resolved_model(&self) -> ModelFile {
         let (environments, psi) = super::environments::environment_files(self);
         ModelFile {
@@ -76,6 +78,9 @@ impl Section {
             cuts: super::cuts::cut_files(&self.cuts),
             environments,
             psi,
+            geojson: self.geojson.clone(),
+            drawing: self.drawing.clone(),
+            imported: None,
         }
     }
 

@@ -56,6 +56,16 @@ pub struct ModelFile {
     /// `[[psi]]`: linear thermal transmittances against declared reference transmittances.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub psi: Vec<super::PsiFile>,
+    /// `[geojson]`: outline, regions and holes read from a GeoJSON file.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub geojson: Option<super::GeojsonFile>,
+    /// `[drawing]`: outline, regions and holes read from a DXF drawing.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drawing: Option<super::DrawingFile>,
+    /// What [`super::resolve_imports`] read from the files named above (never written in a
+    /// model file; `None` until resolved).
+    #[serde(skip)]
+    pub imported: Option<super::Imported>,
 }
 
 /// `[mesh]` as written.
@@ -112,6 +122,11 @@ pub struct RingFile {
     /// One boundary name for every segment.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub boundary: Option<String>,
+    /// How messages name a ring read from a file (e.g. `ground.geojson features[2]`); never
+    /// written in a model file. A ring with a label is in metres whatever the model's
+    /// `length_unit` (the importer converted it).
+    #[serde(skip)]
+    pub label: Option<String>,
 }
 
 /// A circle as written.
@@ -444,7 +459,8 @@ fn unknown_key_hint(msg: &str) -> Option<String> {
 /// Read, parse and validate a model file.
 pub fn load(path: &std::path::Path) -> Result<(ModelFile, Section)> {
     let text = read_model_text(path)?;
-    let file = parse(&text)?;
+    let mut file = parse(&text)?;
+    super::resolve_imports(&mut file, path.parent().unwrap_or(std::path::Path::new("")))?;
     let section = super::validate(&file)?;
     Ok((file, section))
 }

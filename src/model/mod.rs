@@ -11,6 +11,7 @@ mod cuts;
 mod echo;
 mod environments;
 mod file;
+mod import;
 mod nonlinear;
 mod ring;
 mod shapes;
@@ -34,6 +35,9 @@ pub use environments::{
 pub use file::{
     ArcFile, BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, PointEntry,
     ProbeFile, RectangleFile, RingFile, load, parse,
+};
+pub use import::{
+    DrawingFile, GeojsonFile, Imported, LayerFile, MAX_IMPORT_FILE_BYTES, resolve_imports,
 };
 pub use nonlinear::{ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN};
 pub use ring::{circle_segments, ring_circle_segments};
@@ -285,6 +289,10 @@ pub struct Section {
     pub environments: Environments,
     /// Conductivity tables and radiating boundaries (empty tables for a linear model).
     pub nonlinear: Nonlinear,
+    /// `[geojson]` as written (its rings are in `outline`, `regions` and `holes`).
+    pub geojson: Option<GeojsonFile>,
+    /// `[drawing]` as written (its rings are in `outline`, `regions` and `holes`).
+    pub drawing: Option<DrawingFile>,
     /// Warnings found while validating (unnamed segments, dropped points, ...).
     pub warnings: Vec<String>,
     /// Proof of validation: only this module can fill it in.

@@ -47,7 +47,9 @@ pub fn in_metres(file: &ModelFile) -> Result<ModelFile> {
 /// Multiply every length of the model by `f` and every area by `f²`. The one place where
 /// length keys are converted: coordinates (ring points, arc centres and ends, circle centres,
 /// rectangle corners), radii, rectangle sizes, probe, line and cut points, boundary `size`,
-/// ψ reference lengths, and `max_area` of the mesh and of materials (unit²).
+/// ψ reference lengths, and `max_area` of the mesh and of materials (unit²). Rings read from a
+/// `[geojson]` or `[drawing]` file (those with a `label`) are in metres already and keep their
+/// coordinates: a drawing's own `length_unit` was applied when it was read.
 pub fn scale_lengths(m: &mut ModelFile, f: f64) {
     map_lengths(m, &|x| x * f);
 }
@@ -66,7 +68,8 @@ fn map_lengths(m: &mut ModelFile, g: &dyn Fn(f64) -> f64) {
         .outline
         .iter_mut()
         .chain(&mut m.regions)
-        .chain(&mut m.holes);
+        .chain(&mut m.holes)
+        .filter(|r| r.label.is_none());
     for r in rings {
         for e in r.points.iter_mut().flatten() {
             match e {

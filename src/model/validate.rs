@@ -20,10 +20,10 @@ use std::collections::BTreeMap;
 /// Turn a parsed model file into a validated [`Section`]. Geometric checks that need more than
 /// one ring (holes inside the outline, crossings, probes inside) belong to the geometry stage.
 pub fn validate(file: &ModelFile) -> Result<Section> {
+    let mut warnings = super::import::import_warnings(file)?;
     let unit = file.length_unit.clone();
     let converted = super::units::in_metres(file)?;
     let file = &converted;
-    let mut warnings = Vec::new();
     let title = validate_title(file)?;
     let (materials, material_ids, tables) = validate_materials(file)?;
     let (boundaries, boundary_ids, radiation) = validate_boundaries(file)?;
@@ -32,7 +32,8 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let outline_file = file.outline.as_ref().ok_or_else(|| {
         Error::input("outline: missing [outline] table (the section's outer ring)")
     })?;
-    let outline_material = material_of(file, &material_ids, "outline", &outline_file.material)?;
+    let outline_label = outline_file.label.as_deref().unwrap_or("outline");
+    let outline_material = material_of(file, &material_ids, outline_label, &outline_file.material)?;
     check_holes_hold_no_material(file)?;
     let mesh = mesh_settings(file, outline_file)?;
     check_written_points(file, mesh.max_area)?;
@@ -49,7 +50,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         tol: 1e-9 * outline_extent(outline_file).max(1e-6),
         allow_names: true,
     };
-    let outline = build_ring("outline", outline_file, &ctx, &mut warnings)?;
+    let outline = build_ring(outline_label, outline_file, &ctx, &mut warnings)?;
     let holes = build_holes(file, &ctx, &mut warnings)?;
     let regions = build_regions(file, &material_ids, &ctx, &mut warnings)?;
     naming_warnings(&outline, &holes, &boundaries, &mut warnings);
@@ -69,6 +70,8 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         cuts,
         environments,
         nonlinear,
+        geojson: file.geojson.clone(),
+        drawing: file.drawing.clone(),
         warnings,
         validated: Validated,
     })
@@ -505,6 +508,12 @@ fn outline_extent(r: &RingFile) -> f64 {
     if d.is_finite() && d > 0.0 { d } else { 1.0 }
 }
 
+/// How messages name a ring: its source (e.g. `ground.geojson features[2]`) for a ring read
+/// from a file, else `KIND[i]` as in the model file.
+fn ring_label(r: &RingFile, kind: &str, i: usize) -> String {
+    r.label.clone().unwrap_or_else(|| format!("{kind}[{i}]"))
+}
+
 /// The holes, in file order.
 fn build_holes(
     file: &ModelFile,
@@ -514,7 +523,7 @@ fn build_holes(
     file.holes
         .iter()
         .enumerate()
-        .map(|(i, h)| build_ring(&format!("holes[{i}]"), h, ctx, warnings))
+        .map(|(i, h)| build_ring(&ring_label(h, "holes", i), h, ctx, warnings))
         .collect()
 }
 
@@ -531,7 +540,7 @@ fn build_regions(
     };
     let mut regions = Vec::new();
     for (i, r) in file.regions.iter().enumerate() {
-        let label = format!("regions[{i}]");
+        let label = ring_label(r, "regions", i);
         let material = material_of(file, material_ids, &label, &r.material)?;
         let ring = build_ring(&label, r, &ctx, warnings)?;
         regions.push(Region { ring, material });

@@ -200,7 +200,10 @@ impl Plan {
                 model_path.display()
             ))
         })?;
-        let base = model::parse(&model_text).and_then(|m| model::validate(&m).map(|s| (m, s)));
+        let model_dir = model_path.parent().unwrap_or(Path::new("")).to_path_buf();
+        let base = model::parse(&model_text)
+            .and_then(|mut m| model::resolve_imports(&mut m, &model_dir).map(|()| m))
+            .and_then(|m| model::validate(&m).map(|s| (m, s)));
         let (_, section) = base.map_err(|e| {
             Error::input(format!(
                 "sweep plan's model {}: {}",
@@ -260,7 +263,10 @@ impl Plan {
     /// The model file of variant `i`, parsed by the library's normal path (validation follows in
     /// [`run::prepare_model`](crate::run::prepare_model)).
     pub fn variant_model(&self, i: usize) -> Result<ModelFile> {
-        model::parse(&self.variant_text(i)?)
+        let mut m = model::parse(&self.variant_text(i)?)?;
+        let dir = self.model_path.parent().unwrap_or(Path::new(""));
+        model::resolve_imports(&mut m, dir)?;
+        Ok(m)
     }
 }
 
