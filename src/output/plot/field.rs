@@ -90,19 +90,28 @@ pub fn field_picture(input: &FieldInputs, options: &PlotOptions) -> Result<Pictu
     } else {
         None
     };
-    if let Some((_, qmax)) = &arrows {
-        let _ = write!(
-            subtitle,
-            " · arrows: heat flux, longest {} W/m²",
-            crate::text::sig3(*qmax)
-        );
+    if let Some(a) = &arrows {
+        let _ = if a.max > a.reference {
+            write!(
+                subtitle,
+                " · arrows: heat flux, full length {} W/m² (longer capped; max {} W/m²)",
+                crate::text::sig3(a.reference),
+                crate::text::sig3(a.max)
+            )
+        } else {
+            write!(
+                subtitle,
+                " · arrows: heat flux, longest {} W/m²",
+                crate::text::sig3(a.max)
+            )
+        };
     }
     layout.title(&mut c, &mut occupied, &input.section.title, &subtitle);
     occupied.take(layout.furniture(), 0.0);
     draw_isotherm_lines(&mut c, &layout, input.isotherms);
     draw_interfaces(&mut c, &layout, mesh);
     draw_boundaries(&mut c, &layout, mesh);
-    if let Some((d, _)) = &arrows {
+    if let Some(Arrows { d, .. }) = &arrows {
         let u = layout.u;
         c.raw(&format!(
             r##"<path d="{d}" fill="none" stroke="#fff" stroke-opacity="0.7" stroke-width="{}" stroke-linecap="round"/>"##,
@@ -207,9 +216,24 @@ fn draw_boundaries(c: &mut Canvas, layout: &Layout, mesh: &Mesh) {
     ));
 }
 
-/// Arrow paths of the cell heat flux on a grid over the section, and the largest flux drawn
-/// (W/m²); `None` when the field carries no flux.
-fn flux_arrows(layout: &Layout, mesh: &Mesh, res: &Results) -> Option<(String, f64)> {
+/// Percentile of the sampled flux magnitudes that sets the full arrow length: a singular
+/// corner or a source would otherwise shrink every other arrow to a dot.
+const ARROW_REFERENCE_PERCENTILE: f64 = 0.9;
+
+/// Arrows of the cell heat flux sampled on a grid over the section.
+struct Arrows {
+    /// SVG path data.
+    d: String,
+    /// Flux drawn at full length, W/m² (the 90th percentile of the samples).
+    reference: f64,
+    /// Largest sampled flux, W/m².
+    max: f64,
+}
+
+/// Arrow paths of the cell heat flux on a grid over the section: length proportional to the
+/// magnitude up to [`ARROW_REFERENCE_PERCENTILE`] of the samples, longer ones capped at full
+/// length; arrows too short to show a shaft are left out. `None` when the field carries no flux.
+fn flux_arrows(layout: &Layout, mesh: &Mesh, res: &Results) -> Option<Arrows> {
     let u = layout.u;
     let g = 46.0 * u;
     let locator = Locator::new(mesh);
@@ -231,25 +255,30 @@ fn flux_arrows(layout: &Layout, mesh: &Mesh, res: &Results) -> Option<(String, f
             }
         }
     }
-    let qmax = samples
+    let mut mags: Vec<f64> = samples
         .iter()
         .map(|(_, v)| v[0].hypot(v[1]))
-        .fold(0.0, f64::max);
-    if !(qmax > 0.0 && qmax.is_finite()) {
-        return None;
-    }
+        .filter(|m| m.is_finite() && *m > 0.0)
+        .collect();
+    mags.sort_by(f64::total_cmp);
+    let max = *mags.last()?;
+    let at = ((mags.len() - 1) as f64 * ARROW_REFERENCE_PERCENTILE).round() as usize;
+    let reference = mags[at.min(mags.len() - 1)];
+    let head = 5.0 * u;
     let mut d = String::new();
     for (p, v) in samples {
         let m = v[0].hypot(v[1]);
-        let len = 0.8 * g * m / qmax;
-        if len < 4.0 * u {
+        if !(m.is_finite() && m > 0.0) {
+            continue;
+        }
+        let len = 0.8 * g * (m / reference).min(1.0);
+        if len < 2.2 * head {
             continue;
         }
         // Screen direction: y points down.
         let dir = [v[0] / m, -v[1] / m];
         let a = [p[0] - dir[0] * len / 2.0, p[1] - dir[1] * len / 2.0];
         let b = [p[0] + dir[0] * len / 2.0, p[1] + dir[1] * len / 2.0];
-        let head = (5.0 * u).min(len * 0.45);
         let side = |s: f64| {
             [
                 b[0] - head * dir[0] + s * 0.6 * head * dir[1],
@@ -259,7 +288,7 @@ fn flux_arrows(layout: &Layout, mesh: &Mesh, res: &Results) -> Option<(String, f
         path_data(&mut d, &[a, b]);
         path_data(&mut d, &[side(1.0), b, side(-1.0)]);
     }
-    Some((d, qmax))
+    Some(Arrows { d, reference, max })
 }
 
 fn draw_probes(c: &mut Canvas, occupied: &mut Occupied, layout: &Layout, res: &Results) {
