@@ -194,6 +194,14 @@ struct SolveArgs {
     /// (lagged conductivity, symmetric, Cholesky) or newton (full Jacobian, LU with tables).
     #[arg(long, value_name = "METHOD", default_value = "picard")]
     nonlinear: String,
+    /// Solve on this triangle mesh (VTK .vtu with a `material` cell array of the model's
+    /// material ids) instead of meshing the model.
+    #[arg(long, value_name = "FILE", conflicts_with = "target_error")]
+    mesh: Option<PathBuf>,
+    /// With --mesh: boundary names from this boundary.vtp of the same points (cell array
+    /// `boundary_id`) instead of the model's ring segments.
+    #[arg(long, value_name = "FILE", requires = "mesh")]
+    mesh_boundary: Option<PathBuf>,
 }
 
 #[derive(Args)]
@@ -399,14 +407,27 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let mut p = run::prepare(&a.model)?;
     p.nonlinear = method;
     let parse_s = parse_started.elapsed().as_secs_f64();
-    let mut out = output::ResultDir::check(&a.out, &inputs(&a.model, &p))?;
+    let mut refused = inputs(&a.model, &p);
+    refused.extend(a.mesh.iter().chain(&a.mesh_boundary).map(PathBuf::as_path));
+    let mut out = output::ResultDir::check(&a.out, &refused)?;
     out.lock(con.wait)?;
     if let Some(m) = &mut matrix_out {
         m.lock(con.wait)?;
     }
-    let mut solved = match a.target_error {
-        Some(e) => adaptive::solve_adaptive(p, &o, e)?,
-        None => run::solve(p, &o)?,
+    let mut solved = match (&a.mesh, a.target_error) {
+        (Some(file), _) => {
+            let started = std::time::Instant::now();
+            let (mesh, notes) = run::read_mesh(&p, file, a.mesh_boundary.as_deref(), &o)?;
+            let mut s = run::solve_mesh(p, mesh, started.elapsed().as_secs_f64())?;
+            s.warnings.splice(0..0, notes);
+            s.mesh_files = Some((
+                file.display().to_string(),
+                a.mesh_boundary.as_ref().map(|b| b.display().to_string()),
+            ));
+            s
+        }
+        (None, Some(e)) => adaptive::solve_adaptive(p, &o, e)?,
+        (None, None) => run::solve(p, &o)?,
     };
     solved.timings.parse_s = parse_s;
     report_failed_checks(&solved, con);

@@ -5,10 +5,11 @@
 //!
 //! This file holds the mesh types, the options and the entry points; `mesher` triangulates
 //! and refines, `classify` finds the zone of every triangle, `extract` builds the [`Mesh`],
-//! `quality` computes its statistics.
+//! `quality` computes its statistics; `import` reads a mesh made elsewhere (`solve --mesh`).
 
 mod classify;
 mod extract;
+pub mod import;
 mod mesher;
 mod quality;
 pub mod spatial;

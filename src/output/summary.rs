@@ -43,6 +43,9 @@ pub struct SummaryInputs<'a> {
     /// The nonlinear iteration (method, factorisation, tolerance, history; `None` for a linear
     /// model: then no `nonlinear` key).
     pub nonlinear: Option<&'a crate::solve::nonlinear::Outcome>,
+    /// The mesh file and boundary file of `solve --mesh` as given (`None` when the model was
+    /// meshed here: then no `mesh_file` key).
+    pub mesh_files: Option<&'a (String, Option<String>)>,
 }
 
 #[derive(Serialize)]
@@ -256,6 +259,14 @@ struct RunOut {
     note: &'static str,
 }
 
+/// The files of `solve --mesh` as given on the command line.
+#[derive(Serialize)]
+struct MeshFileOut<'a> {
+    mesh: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    boundary: Option<&'a str>,
+}
+
 #[derive(Serialize)]
 struct Summary<'a> {
     schema: &'static str,
@@ -263,6 +274,9 @@ struct Summary<'a> {
     title: &'a str,
     caution: &'static str,
     units: OrderedMap<&'static str, &'static str>,
+    /// `solve --mesh`: the mesh made elsewhere that the results live on.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    mesh_file: Option<MeshFileOut<'a>>,
     nodes: usize,
     triangles: usize,
     min_angle_deg: f64,
@@ -495,6 +509,10 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
         title: &section.title,
         caution: CAUTION,
         units: unit_legend(),
+        mesh_file: inputs.mesh_files.map(|(m, b)| MeshFileOut {
+            mesh: m,
+            boundary: b.as_deref(),
+        }),
         nodes: mesh.nodes.len(),
         triangles: mesh.triangles.len(),
         min_angle_deg: mesh.stats.min_angle_deg,

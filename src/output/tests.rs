@@ -375,6 +375,7 @@ fn summary_has_keys_in_order() {
         model: &model,
         coupling: None,
         nonlinear: None,
+        mesh_files: None,
     };
     let files = [ManifestEntry::of("nodes.csv", b"node\n")];
     let with_files = summary_json_with_files(&inputs, &files).unwrap();
@@ -496,6 +497,7 @@ fn summary_lists_adaptive_cycles() {
         model: &Value::Null,
         coupling: None,
         nonlinear: None,
+        mesh_files: None,
     })
     .unwrap();
     let v: Value = serde_json::from_slice(&bytes).unwrap();

@@ -153,6 +153,9 @@ pub struct Solved {
     pub timings: Timings,
     /// The nonlinear iteration (method, history), `None` for a linear model.
     pub nonlinear: Option<solve::nonlinear::Outcome>,
+    /// The files of a mesh made elsewhere (`solve --mesh`: the .vtu and the optional
+    /// boundary .vtp) as given; `None` when the model was meshed here.
+    pub mesh_files: Option<(String, Option<String>)>,
 }
 
 impl Solved {
@@ -173,6 +176,28 @@ impl Solved {
 /// Mesh a prepared model.
 pub fn mesh(prepared: &Prepared, opts: &MeshOptions) -> Result<Mesh> {
     mesh::build(&prepared.section, &prepared.pslg, opts)
+}
+
+/// A mesh of a prepared model made elsewhere ([`mesh::import::read_mesh`]), refused above the
+/// `opts` triangle limit; with the import's warnings.
+pub fn read_mesh(
+    prepared: &Prepared,
+    file: &Path,
+    boundary: Option<&Path>,
+    opts: &MeshOptions,
+) -> Result<(Mesh, Vec<String>)> {
+    crate::progress::stage("reading the mesh");
+    let (mesh, warnings) =
+        mesh::import::read_mesh(&prepared.section, &prepared.pslg, file, boundary)?;
+    if mesh.triangles.len() > opts.max_triangles {
+        return Err(crate::error::Error::input(format!(
+            "--mesh {}: {} triangles, above --max-triangles {}",
+            file.display(),
+            mesh.triangles.len(),
+            opts.max_triangles
+        )));
+    }
+    Ok((mesh, warnings))
 }
 
 /// What [`check_model`] found: the coarse mesh and the size estimate.
@@ -289,6 +314,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             ..Timings::default()
         },
         nonlinear: None,
+        mesh_files: None,
     })
 }
 

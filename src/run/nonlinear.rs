@@ -84,6 +84,7 @@ pub fn solve_nonlinear(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<So
             ..Timings::default()
         },
         nonlinear: Some(outcome),
+        mesh_files: None,
         prepared,
     })
 }
