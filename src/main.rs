@@ -73,6 +73,15 @@ enum Command {
     /// Parameter sweep: solve every variant of a plan (model keys and their values) and write
     /// sweep.csv and each variant's files; or merge shard sets of one plan (--collect).
     Sweep(SweepArgs),
+    /// Print the JSON Schema (draft 2020-12) of the model file (`model`) or of summary.json
+    /// (`summary`, top level only) on stdout, for editors that read JSON Schema for TOML.
+    Schema(SchemaArgs),
+}
+
+#[derive(Args)]
+struct SchemaArgs {
+    /// Which schema: `model` or `summary`.
+    kind: String,
 }
 
 #[derive(Args)]
@@ -688,6 +697,11 @@ fn sweep_failures(s: &output::SweepSummary) -> xsheat::Result<()> {
     )))
 }
 
+fn schema(a: &SchemaArgs) -> xsheat::Result<()> {
+    print!("{}", output::schema_text(&a.kind)?);
+    Ok(())
+}
+
 fn execute(cli: Cli) -> xsheat::Result<()> {
     xsheat::set_threads(cli.threads)?;
     if !cli.quiet {
@@ -707,6 +721,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         Command::Compare(a) => compare(a, &con),
         Command::Plot(a) => plot(a, &con),
         Command::Sweep(a) => sweep(a, &con),
+        Command::Schema(a) => schema(&a),
     }
 }
 

@@ -26,7 +26,7 @@ pub const RESERVED_CASE_NAMES: [&str; 6] =
     ["boundaries", "cases", "field", "nodes", "probes", "summary"];
 
 /// `[[cases]]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CaseFile {
     /// Case name (a directory name of the result set).
@@ -40,7 +40,7 @@ pub struct CaseFile {
 }
 
 /// `[cases.boundaries.NAME]` as written: the value keys of the boundary kinds.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CaseBoundaryFile {
     /// Fixed temperature, °C (kind fixed).
@@ -61,16 +61,16 @@ pub struct CaseBoundaryFile {
 }
 
 /// `[cases.materials.NAME]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CaseMaterialFile {
-    /// W/(m·K): a number, or `[k_major, k_minor]`.
+    /// New conductivity, W/(m·K), written as the material's `conductivity` is.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub conductivity: Option<super::ConductivityFile>,
     /// Degrees from the x axis to the major direction (anisotropic materials only).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub orientation: Option<f64>,
-    /// W/m³
+    /// New heat source per volume, W/m³.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub heat_source: Option<f64>,
 }

@@ -11,8 +11,9 @@ use serde::{Deserialize, Serialize};
 
 /// The `conductivity` key as written: a number (W/(m·K)), a pair `[k_major, k_minor]`, or
 /// `{ table = [[T, k], …] }` (°C, W/(m·K)).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, schemars::JsonSchema)]
 #[serde(untagged)]
+#[schemars(deny_unknown_fields)]
 pub enum ConductivityFile {
     /// One value, W/(m·K): isotropic.
     Scalar(f64),
@@ -20,7 +21,7 @@ pub enum ConductivityFile {
     Principal([f64; 2]),
     /// A piecewise-linear table of (temperature °C, conductivity W/(m·K)); isotropic.
     Table {
-        /// `[[T, k], …]`.
+        /// `[[T, k], …]`: temperature T, °C, and conductivity k, W/(m·K), at least two rows.
         table: Vec<[f64; 2]>,
     },
 }

@@ -12,12 +12,13 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// `[[cuts]]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CutFile {
     /// Cut name.
     pub name: String,
-    /// The polyline, m; closed when the last point repeats the first.
+    /// The polyline's points `[x, y]`, each coordinate a length in the model's length_unit (default m); closed when the last
+    /// point repeats the first.
     #[serde(deserialize_with = "super::file::points_list")]
     pub points: Vec<[f64; 2]>,
 }

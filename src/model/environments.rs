@@ -117,8 +117,33 @@ impl Serialize for EnvironmentsFile {
     }
 }
 
+/// The schema of `[environments]`, matching its hand-written reader: any key is an environment
+/// (a list of boundary names) except `f_rsi_min` (a number).
+impl schemars::JsonSchema for EnvironmentsFile {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "EnvironmentsFile".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({
+            "description": "`[environments]`: NAME = [\"boundary\", …] per environment (a room, the outside air: convection boundaries sharing one ambient, °C), and optionally f_rsi_min.",
+            "type": "object",
+            "properties": {
+                F_RSI_MIN_KEY: {
+                    "description": "Lowest acceptable temperature factor f_Rsi, dimensionless (0 to 1); factors below it are flagged.",
+                    "type": "number"
+                }
+            },
+            "additionalProperties": {
+                "description": "An environment: the names of its convection boundaries.",
+                "type": "array",
+                "items": { "type": "string" }
+            }
+        })
+    }
+}
+
 /// `[[psi]]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct PsiFile {
     /// Name of the junction.
@@ -131,12 +156,12 @@ pub struct PsiFile {
 }
 
 /// One flanking element of a ψ reference as written.
-#[derive(Debug, Clone, Copy, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Copy, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ReferenceFile {
     /// Thermal transmittance, W/(m²·K).
     pub u: f64,
-    /// Length over which it applies, m.
+    /// Length over which it applies, length in the model's length_unit (default m).
     pub length: f64,
 }
 

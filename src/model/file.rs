@@ -9,7 +9,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// The whole model file as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ModelFile {
     /// Title shown in reports (default "untitled").
@@ -18,11 +18,12 @@ pub struct ModelFile {
     /// Unit of every length and area of the geometry and the mesh settings: "m" (default),
     /// "cm" or "mm" (areas in unit²). Physical properties stay SI; outputs are in m.
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(extend("enum" = ["m", "cm", "mm"]))]
     pub length_unit: Option<String>,
     /// `[mesh]`: global mesh controls.
     #[serde(default)]
     pub mesh: MeshFile,
-    /// `[materials.NAME]`.
+    /// `[materials.NAME]`: the materials, by name.
     #[serde(default)]
     pub materials: BTreeMap<String, MaterialFile>,
     /// `[outline]`: the section's outer ring.
@@ -69,10 +70,10 @@ pub struct ModelFile {
 }
 
 /// `[mesh]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct MeshFile {
-    /// Largest triangle, m².
+    /// Largest triangle of the mesh, area in the model's length_unit squared (default m²).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub max_area: Option<f64>,
     /// Smallest angle of the quality mesh, degrees.
@@ -81,33 +82,33 @@ pub struct MeshFile {
 }
 
 /// `[materials.NAME]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct MaterialFile {
-    /// W/(m·K): a number, `[k_major, k_minor]` with `orientation`, or
+    /// Conductivity, W/(m·K): a number, `[k_major, k_minor]` with `orientation`, or
     /// `{ table = [[T, k], …] }` (°C, W/(m·K)).
     pub conductivity: super::ConductivityFile,
     /// Degrees from the x axis to the major direction (with a pair conductivity only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub orientation: Option<f64>,
-    /// W/m³
+    /// Heat source per volume, W/m³ (default 0).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub heat_source: Option<f64>,
-    /// m²: largest triangle in this material (local size control); default: the mesh's.
+    /// Largest triangle in this material (local size control), area in the model's length_unit squared (default m²); default: the mesh's.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub max_area: Option<f64>,
 }
 
 /// A ring (outline, region or hole) as written: `points` or `circle`, named by `edges` (one
 /// name per segment) or `boundary` (one name for all).
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RingFile {
-    /// Material inside the ring (outline and regions).
+    /// Material inside the ring (outline and regions): a name of `[materials]`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub material: Option<String>,
-    /// Corner points `[x, y]`, m, and arcs `{ arc = { center, to, direction } }` (see
-    /// [`PointEntry`]).
+    /// Corner points `[x, y]`, each coordinate a length in the model's length_unit (default m), and arcs
+    /// `{ arc = { center, to, direction } }`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points: Option<Vec<PointEntry>>,
     /// A circle instead of points.
@@ -116,7 +117,7 @@ pub struct RingFile {
     /// An axis-parallel rectangle instead of points.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rectangle: Option<RectangleFile>,
-    /// Boundary name of each segment ("" = unnamed).
+    /// Boundary name of each segment ("" = unnamed): names of `[boundaries]`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub edges: Option<Vec<String>>,
     /// One boundary name for every segment.
@@ -130,39 +131,41 @@ pub struct RingFile {
 }
 
 /// A circle as written.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CircleFile {
-    /// Centre, m.
+    /// Centre `[x, y]`, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_center")]
     pub center: [f64; 2],
-    /// Radius, m.
+    /// Radius, length in the model's length_unit (default m).
     pub radius: f64,
-    /// Segment count of the inscribed polygon (default: from max_area or the boundary's size).
+    /// Segment count of the inscribed polygon, a whole number (default: from max_area or the
+    /// boundary's size).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub segments: Option<usize>,
 }
 
 /// An axis-parallel rectangle as written: its four segments run from `corner` along +x, then
 /// +y, then −x, then −y (bottom, right, top, left for positive sizes).
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RectangleFile {
-    /// The corner with the smallest x and y, m.
+    /// The corner `[x, y]` with the smallest x and y, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_corner")]
     pub corner: [f64; 2],
-    /// Size along x, m, > 0.
+    /// Size along x, length in the model's length_unit (default m), > 0.
     pub width: f64,
-    /// Size along y, m, > 0.
+    /// Size along y, length in the model's length_unit (default m), > 0.
     pub height: f64,
 }
 
 /// One entry of a ring's `points`: a corner `[x, y]`, or an arc from the previous point (the
 /// last one for the first entry) to `to` around `center`.
-#[derive(Debug, Clone, Serialize, PartialEq)]
+#[derive(Debug, Clone, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(untagged)]
+#[schemars(deny_unknown_fields)]
 pub enum PointEntry {
-    /// A corner point, m.
+    /// A corner point `[x, y]`, each coordinate a length in the model's length_unit (default m).
     Point([f64; 2]),
     /// `{ arc = { ... } }`: an arc ending at its `to` point.
     Arc {
@@ -192,18 +195,21 @@ impl PointEntry {
 }
 
 /// An arc of a ring as written: from the previous point to `to` around `center`.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ArcFile {
-    /// Centre, m.
+    /// Centre `[x, y]`, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_center")]
     pub center: [f64; 2],
-    /// End point, m (the start is the previous point of the ring).
+    /// End point `[x, y]`, each coordinate a length in the model's length_unit (default m) (the start is the previous point of the
+    /// ring).
     #[serde(deserialize_with = "point_to")]
     pub to: [f64; 2],
     /// `"ccw"` (counter-clockwise) or `"cw"` (clockwise) from the start to `to`.
+    #[schemars(extend("enum" = ["ccw", "cw"]))]
     pub direction: String,
-    /// Chord count (default: the circle rule for the arc's share of a full turn).
+    /// Chord count, a whole number (default: the circle rule for the arc's share of a full
+    /// turn).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub segments: Option<usize>,
 }
@@ -250,10 +256,11 @@ impl<'de> Deserialize<'de> for PointEntry {
 
 /// A boundary condition as written. Kept flat so that a key that does not belong to the kind
 /// can be named in the error message.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct BoundaryFile {
     /// `fixed`, `insulated`, `flux`, `convection` or `radiation`.
+    #[schemars(extend("enum" = ["fixed", "insulated", "flux", "convection", "radiation"]))]
     pub kind: String,
     /// Fixed temperature, °C.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -270,10 +277,11 @@ pub struct BoundaryFile {
     /// Imposed flux, W/m², positive into the section.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub flux: Option<f64>,
-    /// m: target edge length of the mesh along this boundary (local size control).
+    /// Target edge length of the mesh along this boundary (local size control), length in the model's length_unit (default m).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub size: Option<f64>,
-    /// Emissivity of a radiating surface (kind `radiation`, or `convection` with radiation).
+    /// Emissivity of a radiating surface, dimensionless, 0 to 1 (kind `radiation`, or
+    /// `convection` with radiation).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub emissivity: Option<f64>,
     /// Temperature of the radiating surroundings, °C (default for `convection`: the ambient).
@@ -282,29 +290,29 @@ pub struct BoundaryFile {
 }
 
 /// `[[probes]]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct ProbeFile {
     /// Probe name.
     pub name: String,
-    /// Position, m.
+    /// Position `[x, y]`, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_at")]
     pub at: [f64; 2],
 }
 
 /// `[[lines]]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct LineFile {
     /// Line name.
     pub name: String,
-    /// Start point, m.
+    /// Start point `[x, y]`, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_from")]
     pub from: [f64; 2],
-    /// End point, m.
+    /// End point `[x, y]`, each coordinate a length in the model's length_unit (default m).
     #[serde(deserialize_with = "point_to")]
     pub to: [f64; 2],
-    /// Number of sample points, at least 2.
+    /// Number of sample points, a whole number, at least 2.
     pub samples: usize,
 }
 

@@ -14,6 +14,7 @@ mod file;
 mod import;
 mod nonlinear;
 mod ring;
+mod schema;
 mod shapes;
 mod suggest;
 mod units;
@@ -41,6 +42,7 @@ pub use import::{
 };
 pub use nonlinear::{ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN};
 pub use ring::{circle_segments, ring_circle_segments};
+pub use schema::{MODEL_SCHEMA_ID, model_schema, schema_settings, without_null};
 pub use shapes::{ARC_RADIUS_TOLERANCE, Arc};
 pub use suggest::suggest;
 pub use units::{LENGTH_UNITS, in_metres, looks_like_kelvin, scale_lengths, unit_factor};

@@ -19,7 +19,7 @@ use std::path::{Path, PathBuf};
 pub const MAX_IMPORT_FILE_BYTES: u64 = 64 * 1024 * 1024;
 
 /// `[geojson]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct GeojsonFile {
     /// Path of the GeoJSON file, relative to the model file. Coordinates are metres in a local
@@ -28,7 +28,7 @@ pub struct GeojsonFile {
 }
 
 /// `[drawing]` as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct DrawingFile {
     /// Path of the DXF file, relative to the model file.
@@ -36,6 +36,7 @@ pub struct DrawingFile {
     /// Unit of the drawing's coordinates: `m` (default), `cm` or `mm`; only the drawing's own
     /// coordinates are converted.
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(extend("enum" = ["m", "cm", "mm"]))]
     pub length_unit: Option<String>,
     /// Distance, in the drawing's unit, within which ends of LINE/ARC chains join and boundary
     /// lines lie on outline edges (default 10⁻⁶ × the drawing's diagonal).
@@ -50,7 +51,7 @@ pub struct DrawingFile {
 }
 
 /// The role of one drawing layer as written.
-#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq)]
+#[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct LayerFile {
     /// Closed rings on the layer are regions (or the outline) of this material.
