@@ -293,6 +293,11 @@ fn environment(
                 boundaries[id].kind.name()
             )));
         };
+        if boundaries[id].field.is_some() {
+            return Err(Error::input(format!(
+                "{label}: boundary \"{b}\" has an ambient that varies with position (boundaries.{b}.ambient); an environment needs one ambient temperature (give a number)"
+            )));
+        }
         if let Some(first) = owner.get(&id) {
             return Err(Error::input(format!(
                 "{label}: boundary \"{b}\" already belongs to environment \"{first}\""
