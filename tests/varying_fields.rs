@@ -374,3 +374,43 @@ fn summary_json_describes_the_field_and_its_range() {
     assert!((var["imposed_max_c"].as_f64().expect("max") - 13.0).abs() < 1e-12);
     assert_eq!(var["gradient_k_per_m"][1].as_f64(), Some(-5.0));
 }
+
+#[test]
+fn coupling_unit_solves_drop_a_varying_fixed_temperature() {
+    // Environments superpose unit solves with every fixed boundary at 0 °C: a fixed boundary
+    // whose temperature varies must not leak into them (invented numbers).
+    let base = r#"
+[mesh]
+max_area = 0.01
+[materials.m]
+conductivity = 1.0
+[outline]
+material = "m"
+rectangle = { corner = [0.0, 0.0], width = 1.0, height = 1.0 }
+edges = ["out", "ins", "in", "side"]
+[boundaries.in]
+kind = "convection"
+h = 8.0
+ambient = 20.0
+[boundaries.out]
+kind = "convection"
+h = 25.0
+ambient = 0.0
+[boundaries.ins]
+kind = "insulated"
+[boundaries.side]
+kind = "fixed"
+temperature = SIDE
+[environments]
+inside = ["in"]
+outside = ["out"]
+"#;
+    let a = solve(&base.replace("SIDE", "5.0"));
+    let b = solve(&base.replace(
+        "SIDE",
+        "{ at = [0.0, 0.0], value = 5.0, gradient = [0.0, 7.0] }",
+    ));
+    let (ca, cb) = (a.coupling.expect("coupling"), b.coupling.expect("coupling"));
+    let (la, lb) = (ca.l2d(0, 1).expect("l2d"), cb.l2d(0, 1).expect("l2d"));
+    assert!((la - lb).abs() < 1e-12 * la.abs().max(1.0), "{la} vs {lb}");
+}

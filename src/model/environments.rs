@@ -435,8 +435,10 @@ impl Section {
         s.cases.clear();
         for m in &mut s.materials {
             m.heat_source = 0.0;
+            m.source_field = None;
         }
         for (id, b) in s.boundaries.iter_mut().enumerate() {
+            b.field = None;
             b.kind = match b.kind {
                 BoundaryKind::Fixed { .. } => BoundaryKind::Fixed { temperature: 0.0 },
                 BoundaryKind::Insulated => BoundaryKind::Insulated,

@@ -144,6 +144,9 @@ impl LinearField {
 /// Largest gradient magnitude accepted per component (K/m or W/m⁴).
 pub const MAX_ABS_GRADIENT: f64 = 1.0e12;
 
+/// One segment of a profile's path: start, end (m) and the arc length at its start (m).
+pub type PathSegment = ([f64; 2], [f64; 2], f64);
+
 /// A piecewise-linear profile along a boundary by arc length, with the boundary's path.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Profile {
@@ -151,7 +154,7 @@ pub struct Profile {
     pub points: Vec<[f64; 2]>,
     /// The boundary's chain: segments (start, end) with the arc length at their start, m.
     #[serde(skip)]
-    pub path: Vec<([f64; 2], [f64; 2], f64)>,
+    pub path: Vec<PathSegment>,
 }
 
 impl Profile {
@@ -382,7 +385,7 @@ fn dist(a: [f64; 2], b: [f64; 2]) -> f64 {
 }
 
 /// The segments of boundary `id` as one chain with arc lengths, or an error.
-fn chain(id: usize, rings: &[&Ring], label: &str) -> Result<Vec<([f64; 2], [f64; 2], f64)>> {
+fn chain(id: usize, rings: &[&Ring], label: &str) -> Result<Vec<PathSegment>> {
     let on: Vec<(usize, Vec<bool>)> = rings
         .iter()
         .enumerate()
