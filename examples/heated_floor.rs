@@ -9,7 +9,7 @@ fn main() -> Result<(), xsheat::Error> {
     };
     let fixed = |t: f64| BoundaryFile {
         kind: "fixed".into(),
-        temperature: Some(t),
+        temperature: Some(t.into()),
         ..Default::default()
     };
     let mut m = ModelFile {
@@ -54,7 +54,7 @@ fn main() -> Result<(), xsheat::Error> {
     let room = BoundaryFile {
         kind: "convection".into(),
         h: Some(10.8),
-        ambient: Some(20.0),
+        ambient: Some(20.0.into()),
         ..Default::default()
     };
     m.boundaries.insert("room".into(), room);

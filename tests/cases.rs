@@ -91,11 +91,14 @@ fn edited(file: &ModelFile, i: usize) -> ModelFile {
             .get_mut(name)
             .expect("the case names a boundary");
         for (dst, src) in [
-            (&mut target.temperature, b.temperature),
-            (&mut target.h, b.h),
-            (&mut target.ambient, b.ambient),
-            (&mut target.flux, b.flux),
+            (&mut target.temperature, b.temperature.clone()),
+            (&mut target.ambient, b.ambient.clone()),
         ] {
+            if src.is_some() {
+                *dst = src;
+            }
+        }
+        for (dst, src) in [(&mut target.h, b.h), (&mut target.flux, b.flux)] {
             if src.is_some() {
                 *dst = src;
             }
@@ -110,7 +113,7 @@ fn edited(file: &ModelFile, i: usize) -> ModelFile {
             target.conductivity = k.clone();
         }
         if v.heat_source.is_some() {
-            target.heat_source = v.heat_source;
+            target.heat_source = v.heat_source.clone();
         }
     }
     m

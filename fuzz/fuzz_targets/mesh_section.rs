@@ -89,7 +89,7 @@ fn boundary(u: &mut Unstructured, diag: f64) -> Result<BoundaryFile> {
     let mut b = match u.int_in_range(0u8..=3)? {
         0 => BoundaryFile {
             kind: "fixed".into(),
-            temperature: Some(temp(u)?),
+            temperature: Some(temp(u)?.into()),
             ..Default::default()
         },
         1 => BoundaryFile {
@@ -104,7 +104,7 @@ fn boundary(u: &mut Unstructured, diag: f64) -> Result<BoundaryFile> {
         _ => BoundaryFile {
             kind: "convection".into(),
             h: Some(f64::from(u.int_in_range(1u8..=50)?)),
-            ambient: Some(temp(u)?),
+            ambient: Some(temp(u)?.into()),
             ..Default::default()
         },
     };

@@ -9,7 +9,7 @@ use super::checks::{check_load_case, check_mesh};
 use super::element::{Conductivity, TriangleGeometry};
 use crate::error::{Error, Result};
 use crate::mesh::{BoundaryEdge, Mesh};
-use crate::model::{BoundaryKind, ConductivityLaw, Section};
+use crate::model::{BoundaryKind, ConductivityLaw, Field, LinearField, Section};
 use sprs::CsMat;
 
 /// The values of one load case. Boundary kinds and film coefficients belong to the matrix and
@@ -26,6 +26,12 @@ pub struct LoadCase {
     pub boundary_value: Vec<f64>,
     /// Per material id, W/m³.
     pub heat_source: Vec<f64>,
+    /// Per boundary id: the fixed temperature or ambient when it varies with position (it then
+    /// replaces `boundary_value`).
+    pub boundary_field: Vec<Option<Field>>,
+    /// Per material id: the heat source when it is linear in position (it then replaces
+    /// `heat_source`).
+    pub source_field: Vec<Option<LinearField>>,
 }
 
 impl LoadCase {
@@ -46,6 +52,24 @@ impl LoadCase {
         LoadCase {
             boundary_value,
             heat_source,
+            boundary_field: section.boundaries.iter().map(|b| b.field.clone()).collect(),
+            source_field: section.materials.iter().map(|m| m.source_field).collect(),
+        }
+    }
+
+    /// The value of boundary `id` at point `p` (the field's where it varies).
+    pub fn boundary_value_at(&self, id: usize, p: [f64; 2]) -> f64 {
+        match self.boundary_field.get(id).and_then(|f| f.as_ref()) {
+            Some(f) => f.value_at(p),
+            None => self.boundary_value[id],
+        }
+    }
+
+    /// The heat source of material `m` at point `p`, W/m³.
+    pub fn source_at(&self, m: usize, p: [f64; 2]) -> f64 {
+        match self.source_field.get(m).and_then(|f| f.as_ref()) {
+            Some(f) => f.value_at(p),
+            None => self.heat_source[m],
         }
     }
 }
@@ -138,42 +162,72 @@ pub(crate) fn load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Load {
     }
 }
 
-/// Uniform source `Q·A/3` per triangle node; returns `Q·A` per triangle.
+/// Source per triangle node, exact for a source linear in position: with the nodal values
+/// Q_j, `∫ Q·N_i dA = A/12·(2·Q_i + Q_j + Q_k)` (the P1 mass matrix `A/12·[2 1 1; 1 2 1; 1 1 2]`,
+/// common practice), `Q·A/3` for a uniform source; returns `∫ Q dA = A·(Q_1 + Q_2 + Q_3)/3` per
+/// triangle.
 fn add_sources(vector: &mut [f64], mesh: &Mesh, case: &LoadCase) -> Vec<f64> {
     let mut cell_source = vec![0.0; mesh.triangles.len()];
     for (t, ids) in mesh.triangles.iter().enumerate() {
-        let q = case.heat_source[mesh.material[t]];
-        if q != 0.0 {
-            let total = q * TriangleGeometry::of(mesh, t).area;
-            cell_source[t] = total;
-            for &v in ids {
-                vector[v] += total / 3.0;
+        let m = mesh.material[t];
+        if case.source_field.get(m).is_none_or(|f| f.is_none()) {
+            let q = case.heat_source[m];
+            if q != 0.0 {
+                let total = q * TriangleGeometry::of(mesh, t).area;
+                cell_source[t] = total;
+                for &v in ids {
+                    vector[v] += total / 3.0;
+                }
+            }
+            continue;
+        }
+        let q = ids.map(|v| case.source_at(m, mesh.nodes[v]));
+        if q.iter().any(|&x| x != 0.0) {
+            let a = TriangleGeometry::of(mesh, t).area;
+            let sum = q[0] + q[1] + q[2];
+            cell_source[t] = a * sum / 3.0;
+            for (i, &v) in ids.iter().enumerate() {
+                vector[v] += a / 12.0 * (q[i] + sum);
             }
         }
     }
     cell_source
 }
 
-/// Imposed flux `q·L/2` and convection `h·T∞·L/2` per edge node (positive into the section).
+/// Imposed flux `q·L/2` per edge node and convection `∫ h·T∞·N_i ds` with T∞ linear along the
+/// edge between its values at the two nodes, `h·L/6·(2·T∞_i + T∞_j)` (exact for a linear
+/// ambient; `h·T∞·L/2` for a constant one) — positive into the section.
 fn add_edge_loads(vector: &mut [f64], section: &Section, mesh: &Mesh, case: &LoadCase) {
     for e in &mesh.boundary_edges {
         let Some(id) = e.boundary else { continue };
-        let per_node = match section.boundaries[id].kind {
-            BoundaryKind::Flux { .. } => case.boundary_value[id],
-            BoundaryKind::Convection { h, .. } => h * case.boundary_value[id],
+        let l = mesh.edge_length(e);
+        let [a, b] = e.nodes;
+        match section.boundaries[id].kind {
+            BoundaryKind::Flux { .. } => {
+                let per_node = case.boundary_value[id] * l / 2.0;
+                vector[a] += per_node;
+                vector[b] += per_node;
+            }
+            BoundaryKind::Convection { h, .. } if case.boundary_field[id].is_none() => {
+                let per_node = h * case.boundary_value[id] * l / 2.0;
+                vector[a] += per_node;
+                vector[b] += per_node;
+            }
+            BoundaryKind::Convection { h, .. } => {
+                let ta = case.boundary_value_at(id, mesh.nodes[a]);
+                let tb = case.boundary_value_at(id, mesh.nodes[b]);
+                vector[a] += h * l / 6.0 * (2.0 * ta + tb);
+                vector[b] += h * l / 6.0 * (ta + 2.0 * tb);
+            }
             BoundaryKind::Fixed { .. }
             | BoundaryKind::Insulated
-            | BoundaryKind::Radiation { .. } => continue,
-        };
-        let l = mesh.edge_length(e);
-        for &v in &e.nodes {
-            vector[v] += per_node * l / 2.0;
+            | BoundaryKind::Radiation { .. } => {}
         }
     }
 }
 
-/// Dirichlet value per node: the mean of the temperatures of the distinct fixed boundaries
-/// whose edges touch it.
+/// Dirichlet value per node: the mean of the temperatures (at the node, for a temperature that
+/// varies with position) of the distinct fixed boundaries whose edges touch it.
 fn fixed_values(section: &Section, mesh: &Mesh, case: &LoadCase) -> Vec<Option<f64>> {
     let mut fixed_pairs: Vec<(usize, usize)> = Vec::new();
     for e in &mesh.boundary_edges {
@@ -187,9 +241,9 @@ fn fixed_values(section: &Section, mesh: &Mesh, case: &LoadCase) -> Vec<Option<f
     fixed_pairs.dedup();
     let mut fixed = vec![None; mesh.nodes.len()];
     for group in fixed_pairs.chunk_by(|a, b| a.0 == b.0) {
-        let sum = group
-            .iter()
-            .fold(0.0, |s, &(_, id)| s + case.boundary_value[id]);
+        let sum = group.iter().fold(0.0, |s, &(node, id)| {
+            s + case.boundary_value_at(id, mesh.nodes[node])
+        });
         fixed[group[0].0] = Some(sum / group.len() as f64);
     }
     fixed

@@ -571,6 +571,19 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             m.name, m.conductivity
         )));
     }
+    if let Some(b) = section.boundaries.iter().find(|b| b.field.is_some()) {
+        return Err(Error::input(format!(
+            "boundaries.{}.{}: the grid model takes constant boundary temperatures only; this one varies with position (use `converge` to check the element model's discretisation)",
+            b.name,
+            crate::model::field_key(b)
+        )));
+    }
+    if let Some(m) = section.materials.iter().find(|m| m.source_field.is_some()) {
+        return Err(Error::input(format!(
+            "materials.{}.heat_source: the grid model takes constant heat sources only; this one varies with position (use `converge` to check the element model's discretisation)",
+            m.name
+        )));
+    }
     // Ring checks (crossings, holes inside the outline, ...) are those of the element model.
     geometry::build(section)?;
     let mut b = Builder {

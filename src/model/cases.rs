@@ -43,18 +43,18 @@ pub struct CaseFile {
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct CaseBoundaryFile {
-    /// Fixed temperature, °C (kind fixed).
+    /// Fixed temperature, °C (kind fixed); a number (a field is refused by name).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub temperature: Option<f64>,
+    pub temperature: Option<super::FieldFile>,
     /// Film coefficient, W/(m²·K) (kind convection).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub h: Option<f64>,
     /// Surface resistance R_s = 1/h, m²·K/W (kind convection, instead of `h`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resistance: Option<f64>,
-    /// Ambient temperature, °C (kind convection).
+    /// Ambient temperature, °C (kind convection); a number (a field is refused by name).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub ambient: Option<f64>,
+    pub ambient: Option<super::FieldFile>,
     /// Imposed flux, W/m², positive into the section (kind flux).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub flux: Option<f64>,
@@ -72,7 +72,7 @@ pub struct CaseMaterialFile {
     pub orientation: Option<f64>,
     /// New heat source per volume, W/m³.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub heat_source: Option<f64>,
+    pub heat_source: Option<super::FieldFile>,
 }
 
 /// A boundary's condition in one case (same kind as the base, values resolved).
@@ -259,7 +259,8 @@ fn case_boundary(
     let mut resistance = None;
     let kind = match base {
         BoundaryKind::Fixed { temperature } => {
-            let t = b.temperature.unwrap_or(temperature);
+            let t = case_number(&item, "temperature", &b.temperature, &boundaries[id].field)?
+                .unwrap_or(temperature);
             check_temperature(t, &format!("{item}: temperature"))?;
             BoundaryKind::Fixed { temperature: t }
         }
@@ -278,7 +279,8 @@ fn case_boundary(
                 resistance = b.resistance;
                 film_or_resistance(&item, b.h, b.resistance)?
             };
-            let a = b.ambient.unwrap_or(ambient);
+            let a = case_number(&item, "ambient", &b.ambient, &boundaries[id].field)?
+                .unwrap_or(ambient);
             check_temperature(a, &format!("{item}: ambient"))?;
             BoundaryKind::Convection { h, ambient: a }
         }
@@ -288,6 +290,28 @@ fn case_boundary(
         kind,
         resistance,
     })
+}
+
+/// A case's number for `key`: a field form is refused, and so is any value for a key whose
+/// base value varies with position (a case overrides numbers only).
+fn case_number(
+    item: &str,
+    key: &str,
+    v: &Option<super::FieldFile>,
+    base: &Option<super::Field>,
+) -> Result<Option<f64>> {
+    let Some(v) = v else { return Ok(None) };
+    let Some(n) = v.constant() else {
+        return Err(Error::input(format!(
+            "{item}.{key}: a load case takes a number here; a value that varies with position belongs in the base model (or a model of its own)"
+        )));
+    };
+    if base.is_some() {
+        return Err(Error::input(format!(
+            "{item}.{key}: the base model's {key} varies with position; a load case cannot override it (solve the case as a model of its own)"
+        )));
+    }
+    Ok(Some(n))
 }
 
 /// One `[cases.materials.NAME]`: an existing material, the ranges of the base values.
@@ -307,7 +331,9 @@ fn case_material(
         )));
     };
     let conductivity = case_conductivity(&item, m, base.conductivity)?;
-    let heat_source = m.heat_source.unwrap_or(base.heat_source);
+    let field = base.source_field.map(super::Field::Linear);
+    let heat_source =
+        case_number(&item, "heat_source", &m.heat_source, &field)?.unwrap_or(base.heat_source);
     check_bounded(
         heat_source,
         MAX_ABS_HEAT_SOURCE,
@@ -356,8 +382,11 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                 .iter()
                 .map(|b| {
                     let mut f = CaseBoundaryFile::default();
+                    // a base value that varies with position is never overridden
+                    let number =
+                        |v: f64| section.boundaries[b.id].field.is_none().then(|| v.into());
                     match b.kind {
-                        BoundaryKind::Fixed { temperature } => f.temperature = Some(temperature),
+                        BoundaryKind::Fixed { temperature } => f.temperature = number(temperature),
                         BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
                         BoundaryKind::Flux { flux } => f.flux = Some(flux),
                         BoundaryKind::Convection { h, ambient } => {
@@ -365,7 +394,7 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                                 Some(r) => f.resistance = Some(r),
                                 None => f.h = Some(h),
                             }
-                            f.ambient = Some(ambient);
+                            f.ambient = number(ambient);
                         }
                     }
                     (section.boundaries[b.id].name.clone(), f)
@@ -379,7 +408,10 @@ pub(super) fn case_files(section: &Section) -> Vec<CaseFile> {
                     let f = CaseMaterialFile {
                         conductivity: Some(conductivity),
                         orientation,
-                        heat_source: Some(m.heat_source),
+                        heat_source: section.materials[m.id]
+                            .source_field
+                            .is_none()
+                            .then(|| m.heat_source.into()),
                     };
                     (section.materials[m.id].name.clone(), f)
                 })

@@ -37,7 +37,10 @@ impl Section {
                     let file = MaterialFile {
                         conductivity,
                         orientation,
-                        heat_source: Some(m.heat_source),
+                        heat_source: Some(match m.source_field {
+                            Some(l) => super::FieldFile::Linear(l),
+                            None => m.heat_source.into(),
+                        }),
                         max_area: m.max_area,
                     };
                     (m.name.clone(), file)
@@ -168,7 +171,9 @@ fn boundary_file(b: &Boundary, radiation: Option<super::Radiation>) -> BoundaryF
         ..BoundaryFile::default()
     };
     match b.kind {
-        BoundaryKind::Fixed { temperature } => file.temperature = Some(temperature),
+        BoundaryKind::Fixed { temperature } => {
+            file.temperature = Some(b.field.as_ref().map_or(temperature.into(), |f| f.file()));
+        }
         BoundaryKind::Insulated => {}
         BoundaryKind::Flux { flux } => file.flux = Some(flux),
         BoundaryKind::Convection { h, ambient } => {
@@ -176,7 +181,7 @@ fn boundary_file(b: &Boundary, radiation: Option<super::Radiation>) -> BoundaryF
                 Some(r) => file.resistance = Some(r),
                 None => file.h = Some(h),
             }
-            file.ambient = Some(ambient);
+            file.ambient = Some(b.field.as_ref().map_or(ambient.into(), |f| f.file()));
         }
         BoundaryKind::Radiation { .. } => {}
     }

@@ -318,6 +318,11 @@ fn environment(
                 boundaries[id].kind.name()
             )));
         };
+        if boundaries[id].field.is_some() {
+            return Err(Error::input(format!(
+                "{label}: boundary \"{b}\" has an ambient that varies with position (boundaries.{b}.ambient); an environment needs one ambient temperature (give a number)"
+            )));
+        }
         if let Some(first) = owner.get(&id) {
             return Err(Error::input(format!(
                 "{label}: boundary \"{b}\" already belongs to environment \"{first}\""
@@ -455,8 +460,10 @@ impl Section {
         s.cases.clear();
         for m in &mut s.materials {
             m.heat_source = 0.0;
+            m.source_field = None;
         }
         for (id, b) in s.boundaries.iter_mut().enumerate() {
+            b.field = None;
             b.kind = match b.kind {
                 BoundaryKind::Fixed { .. } => BoundaryKind::Fixed { temperature: 0.0 },
                 BoundaryKind::Insulated => BoundaryKind::Insulated,

@@ -91,9 +91,10 @@ pub struct MaterialFile {
     /// Degrees from the x axis to the major direction (with a pair conductivity only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub orientation: Option<f64>,
-    /// Heat source per volume, W/m³ (default 0).
+    /// Heat source per volume, W/m³ (default 0): a number or a linear field (W/m³ at `at`,
+    /// gradient W/m⁴).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub heat_source: Option<f64>,
+    pub heat_source: Option<super::FieldFile>,
     /// Largest triangle in this material (local size control), area in the model's length_unit squared (default m²); default: the mesh's.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub max_area: Option<f64>,
@@ -262,18 +263,18 @@ pub struct BoundaryFile {
     /// `fixed`, `insulated`, `flux`, `convection` or `radiation`.
     #[schemars(extend("enum" = ["fixed", "insulated", "flux", "convection", "radiation"]))]
     pub kind: String,
-    /// Fixed temperature, °C.
+    /// Fixed temperature, °C: a number, a linear field or a profile along the boundary.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub temperature: Option<f64>,
+    pub temperature: Option<super::FieldFile>,
     /// Film coefficient, W/(m²·K).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub h: Option<f64>,
     /// Surface resistance R_s = 1/h, m²·K/W (convection, instead of `h`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resistance: Option<f64>,
-    /// Ambient temperature, °C.
+    /// Ambient temperature, °C: a number, a linear field or a profile along the boundary.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub ambient: Option<f64>,
+    pub ambient: Option<super::FieldFile>,
     /// Imposed flux, W/m², positive into the section.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub flux: Option<f64>,

@@ -10,6 +10,7 @@ mod conductivity;
 mod cuts;
 mod echo;
 mod environments;
+mod field;
 mod file;
 mod import;
 mod nonlinear;
@@ -33,6 +34,7 @@ pub use environments::{
     Environment, Environments, EnvironmentsFile, F_RSI_MIN_KEY, MAX_ENVIRONMENTS, MAX_REFERENCE_U,
     Psi, PsiFile, ReferenceFile,
 };
+pub use field::{Field, FieldFile, LinearField, MAX_ABS_GRADIENT, Profile, field_key};
 pub use file::{
     ArcFile, BoundaryFile, CircleFile, LineFile, MaterialFile, MeshFile, ModelFile, PointEntry,
     ProbeFile, RectangleFile, RingFile, load, parse,
@@ -147,6 +149,23 @@ pub struct Boundary {
     /// instead of `h` (its `h` is then 1/R_s).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resistance: Option<f64>,
+    /// The imposed temperature (fixed) or ambient (convection) when it varies with position;
+    /// the kind's number is then the field's value at its reference point or profile start.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub field: Option<Field>,
+}
+
+impl Boundary {
+    /// The imposed temperature (fixed) or ambient (convection) at point `p` of the boundary;
+    /// `None` for other kinds.
+    pub fn value_at(&self, p: [f64; 2]) -> Option<f64> {
+        let constant = match self.kind {
+            BoundaryKind::Fixed { temperature } => temperature,
+            BoundaryKind::Convection { ambient, .. } => ambient,
+            _ => return None,
+        };
+        Some(self.field.as_ref().map_or(constant, |f| f.value_at(p)))
+    }
 }
 
 /// A material with its id.
@@ -160,8 +179,11 @@ pub struct Material {
     /// conductivity table, isotropic with k at the middle of the table's temperature range (the
     /// table itself is [`Section::conductivity_table`]).
     pub conductivity: ConductivityLaw,
-    /// W/m³
+    /// W/m³ (for a linear source: its value at the field's `at`).
     pub heat_source: f64,
+    /// A heat source linear in position (W/m³, W/m⁴), when written so.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub source_field: Option<LinearField>,
     /// Largest triangle in this material, m² (`None`: the mesh's `max_area`).
     pub max_area: Option<f64>,
 }

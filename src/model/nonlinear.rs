@@ -202,6 +202,25 @@ pub(super) fn check_linear_only(file: &ModelFile, nonlinear: &Nonlinear) -> Resu
             "environments: coupling coefficients, psi and f_Rsi are not available in {why} (they superpose unit solves)"
         )));
     }
+    for (name, b) in &file.boundaries {
+        for (key, v) in [("temperature", &b.temperature), ("ambient", &b.ambient)] {
+            if v.as_ref().is_some_and(|f| f.constant().is_none()) {
+                return Err(Error::input(format!(
+                    "boundaries.{name}.{key}: a temperature that varies with position is not available in a nonlinear model (a conductivity table or a radiating boundary); give a number"
+                )));
+            }
+        }
+    }
+    for (name, m) in &file.materials {
+        if m.heat_source
+            .as_ref()
+            .is_some_and(|f| f.constant().is_none())
+        {
+            return Err(Error::input(format!(
+                "materials.{name}.heat_source: a heat source that varies with position is not available in a nonlinear model (a conductivity table or a radiating boundary); give a number"
+            )));
+        }
+    }
     Ok(())
 }
 

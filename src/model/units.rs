@@ -90,8 +90,23 @@ fn map_lengths(m: &mut ModelFile, g: &dyn Fn(f64) -> f64) {
             rect.height = g(rect.height);
         }
     }
+    // fields: `at` and a profile's arc length s are lengths; values and gradients (K/m, W/m⁴)
+    // stay SI
+    let field = |f: &mut Option<super::FieldFile>| match f {
+        Some(super::FieldFile::Linear(l)) => {
+            l.at[0] = g(l.at[0]);
+            l.at[1] = g(l.at[1]);
+        }
+        Some(super::FieldFile::Profile(pr)) => pr.iter_mut().for_each(|q| q[0] = g(q[0])),
+        _ => {}
+    };
     for b in m.boundaries.values_mut() {
         b.size = b.size.map(g);
+        field(&mut b.temperature);
+        field(&mut b.ambient);
+    }
+    for mat in m.materials.values_mut() {
+        field(&mut mat.heat_source);
     }
     for pr in &mut m.probes {
         p(&mut pr.at);

@@ -9,7 +9,7 @@ use super::ring::{RingContext, build_ring, raw_area};
 use super::suggest::{did_you_mean, known_list, suggest};
 use super::{
     ABSOLUTE_ZERO_C, Boundary, BoundaryFile, BoundaryKind, ConductivityFile, DEFAULT_MIN_ANGLE,
-    Line, MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS,
+    Field, Line, MAX_ABS_FLUX, MAX_ABS_HEAT_SOURCE, MAX_ABS_TEMPERATURE_C, MAX_CIRCLE_SEGMENTS,
     MAX_CONDUCTIVITY, MAX_COORD, MAX_FILM_COEFFICIENT, MAX_LINE_SAMPLES, MAX_MIN_ANGLE,
     MAX_NAME_CHARS, MAX_RING_POINTS, MAX_TITLE_CHARS, MIN_CONDUCTIVITY, Material, MeshSettings,
     ModelFile, Probe, Region, Ring, RingFile, Section, Validated,
@@ -53,6 +53,9 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let outline = build_ring(outline_label, outline_file, &ctx, &mut warnings)?;
     let holes = build_holes(file, &ctx, &mut warnings)?;
     let regions = build_regions(file, &material_ids, &ctx, &mut warnings)?;
+    let mut boundaries = boundaries;
+    let rings: Vec<&Ring> = std::iter::once(&outline).chain(&holes).collect();
+    super::field::attach_profiles(&mut boundaries, &rings, &mut warnings)?;
     naming_warnings(&outline, &holes, &boundaries, &mut warnings);
     super::units::plausibility(&outline, &boundaries, unit.as_deref(), &mut warnings);
     Ok(Section {
@@ -264,13 +267,17 @@ fn validate_materials(file: &ModelFile) -> Result<MaterialTables> {
             ),
         };
         tables.push(table);
-        let q = m.heat_source.unwrap_or(0.0);
-        check_bounded(
-            q,
-            MAX_ABS_HEAT_SOURCE,
-            &format!("materials.{name}: heat_source"),
-            "W/m³",
+        let written = m.heat_source.clone().unwrap_or(0.0.into());
+        let (q, source_field) = super::field::validate_field(
+            &format!("materials.{name}.heat_source"),
+            &written,
+            false,
+            &|v, what| check_bounded(v, MAX_ABS_HEAT_SOURCE, what, "W/m³"),
         )?;
+        let source_field = source_field.map(|f| match f {
+            super::Field::Linear(l) => l,
+            super::Field::Profile(_) => unreachable!("profiles refused above"),
+        });
         if let Some(a) = m.max_area
             && (!a.is_finite() || a <= 0.0)
         {
@@ -284,6 +291,7 @@ fn validate_materials(file: &ModelFile) -> Result<MaterialTables> {
             name: name.clone(),
             conductivity,
             heat_source: q,
+            source_field,
             max_area: m.max_area,
         });
     }
@@ -334,7 +342,7 @@ fn validate_boundaries(file: &ModelFile) -> Result<BoundaryTables> {
         let label = format!("boundaries.{}", printable(name));
         check_name(&label, name, "boundary")?;
         check_case_unique(&label, name, "boundary", &mut seen)?;
-        let kind = validate_boundary(name, b)?;
+        let (kind, field) = validate_boundary(name, b)?;
         radiation.push(super::nonlinear::boundary_radiation(name, b, &kind)?);
         if let Some(h) = b.size
             && (!h.is_finite() || h <= 0.0)
@@ -349,6 +357,7 @@ fn validate_boundaries(file: &ModelFile) -> Result<BoundaryTables> {
             kind,
             size: b.size,
             resistance: b.resistance,
+            field,
         });
     }
     Ok((boundaries, ids, radiation))
@@ -385,12 +394,19 @@ fn require(name: &str, key: &str, v: Option<f64>, kind: &str) -> Result<f64> {
 }
 
 /// The condition of one written boundary (its name already checked).
-fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
+fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<(BoundaryKind, Option<Field>)> {
+    let mut field = None;
     let kind = match b.kind.as_str() {
         "fixed" => {
             check_kind_keys(name, b, &["temperature"])?;
-            let t = require(name, "temperature", b.temperature, "fixed")?;
-            check_temperature(t, &format!("boundaries.{name}: temperature"))?;
+            let t = require_field(name, "temperature", &b.temperature, "fixed")?;
+            let (t, f) = super::field::validate_field(
+                &format!("boundaries.{name}.temperature"),
+                t,
+                true,
+                &check_temperature,
+            )?;
+            field = f;
             BoundaryKind::Fixed { temperature: t }
         }
         "insulated" => {
@@ -406,8 +422,14 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
         "convection" => {
             check_kind_keys(name, b, &["h", "resistance", "ambient"])?;
             let h = film_or_resistance(&format!("boundaries.{name}"), b.h, b.resistance)?;
-            let a = require(name, "ambient", b.ambient, "convection")?;
-            check_temperature(a, &format!("boundaries.{name}: ambient"))?;
+            let a = require_field(name, "ambient", &b.ambient, "convection")?;
+            let (a, f) = super::field::validate_field(
+                &format!("boundaries.{name}.ambient"),
+                a,
+                true,
+                &check_temperature,
+            )?;
+            field = f;
             BoundaryKind::Convection { h, ambient: a }
         }
         "radiation" => {
@@ -436,7 +458,18 @@ fn validate_boundary(name: &str, b: &BoundaryFile) -> Result<BoundaryKind> {
             )));
         }
     };
-    Ok(kind)
+    Ok((kind, field))
+}
+
+/// The written field of a key the kind needs.
+fn require_field<'a>(
+    name: &str,
+    key: &str,
+    v: &'a Option<super::FieldFile>,
+    kind: &str,
+) -> Result<&'a super::FieldFile> {
+    v.as_ref()
+        .ok_or_else(|| Error::input(format!("boundaries.{name}: kind \"{kind}\" needs `{key}`")))
 }
 
 /// A hole holds no material: `material` on a hole is an error.

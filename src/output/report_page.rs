@@ -204,7 +204,10 @@ fn model_section(page: &mut Page, sv: &Solved) {
                 Some(k) => fixed_short(k),
                 None => m.conductivity.to_string(),
             },
-            fixed_short(m.heat_source),
+            match m.source_field {
+                Some(f) => crate::model::Field::Linear(f).describe("W/m³"),
+                None => fixed_short(m.heat_source),
+            },
             role.to_string(),
         ]);
     }
@@ -223,7 +226,19 @@ fn model_section(page: &mut Page, sv: &Solved) {
                         fixed_short(r.emissivity),
                         fixed_short(r.surroundings)
                     ),
-                    _ => condition(&x.kind),
+                    _ => match &x.field {
+                        // a temperature that varies with position
+                        Some(f) => format!(
+                            "{}: {}",
+                            x.kind.name(),
+                            f.describe(if matches!(x.kind, BoundaryKind::Fixed { .. }) {
+                                "°C (T)"
+                            } else {
+                                "°C (ambient)"
+                            })
+                        ),
+                        None => condition(&x.kind),
+                    },
                 }
             },
         );

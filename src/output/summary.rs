@@ -5,7 +5,7 @@ use super::manifest::ManifestEntry;
 use crate::CAUTION;
 use crate::error::{Error, Result};
 use crate::mesh::Mesh;
-use crate::model::{Boundary, BoundaryKind, Section};
+use crate::model::{Boundary, BoundaryKind, Field, Section};
 use crate::post::Results;
 use crate::post::estimate::ErrorEstimate;
 use crate::run::{Check, Cycle, Timings};
@@ -59,6 +59,12 @@ struct MaterialOut<'a> {
     #[serde(skip_serializing_if = "Option::is_none")]
     conductivity_table_c_w_per_m_k: Option<&'a [[f64; 2]]>,
     heat_source_w_per_m3: f64,
+    /// A heat source linear in position: `heat_source_w_per_m3` at this point, m.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    heat_source_at_m: Option<[f64; 2]>,
+    /// A heat source linear in position: its gradient, W/m⁴.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    heat_source_gradient_w_per_m4: Option<[f64; 2]>,
     /// Meshed area (null when the material has no triangle on the mesh).
     area_m2: Option<f64>,
     heat_generated_w_per_m: Option<f64>,
@@ -108,6 +114,9 @@ struct TemperatureOut {
 enum ConditionOut {
     Fixed {
         temperature_c: f64,
+        /// The temperature's variation with position, when it varies.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        varying: Option<VaryingOut>,
     },
     Insulated,
     Flux {
@@ -119,6 +128,9 @@ enum ConditionOut {
         #[serde(skip_serializing_if = "Option::is_none")]
         resistance_m2_k_per_w: Option<f64>,
         ambient_c: f64,
+        /// The ambient's variation with position, when it varies.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        varying: Option<VaryingOut>,
         /// Emissivity when the convective surface also radiates.
         #[serde(skip_serializing_if = "Option::is_none")]
         emissivity: Option<f64>,
@@ -132,10 +144,51 @@ enum ConditionOut {
     },
 }
 
+/// A temperature that varies with position: its form (metres, °C, K/m) and the lowest and
+/// highest value imposed along the boundary.
+#[derive(Serialize)]
+struct VaryingOut {
+    description: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    at_m: Option<[f64; 2]>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    value_c: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    gradient_k_per_m: Option<[f64; 2]>,
+    /// `[s_m, temperature_c]` points of a profile.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    profile_s_m_temperature_c: Option<Vec<[f64; 2]>>,
+    imposed_min_c: f64,
+    imposed_max_c: f64,
+}
+
+impl VaryingOut {
+    fn of(section: &Section, id: usize) -> Option<Self> {
+        let f = section.boundaries[id].field.as_ref()?;
+        let (lo, hi) = section.imposed_range(id)?;
+        let (at_m, value_c, gradient_k_per_m, profile) = match f {
+            Field::Linear(l) => (Some(l.at), Some(l.value), Some(l.gradient), None),
+            Field::Profile(p) => (None, None, None, Some(p.points.clone())),
+        };
+        Some(VaryingOut {
+            description: f.describe("°C"),
+            at_m,
+            value_c,
+            gradient_k_per_m,
+            profile_s_m_temperature_c: profile,
+            imposed_min_c: lo,
+            imposed_max_c: hi,
+        })
+    }
+}
+
 impl ConditionOut {
     /// The condition of boundary `id` of `section`, radiation included.
     fn of(section: &Section, id: usize) -> Self {
         let mut c = Self::from(&section.boundaries[id]);
+        if let Self::Fixed { varying, .. } | Self::Convection { varying, .. } = &mut c {
+            *varying = VaryingOut::of(section, id);
+        }
         if let (
             Self::Convection {
                 emissivity,
@@ -157,6 +210,7 @@ impl From<&Boundary> for ConditionOut {
         match b.kind {
             BoundaryKind::Fixed { temperature } => Self::Fixed {
                 temperature_c: temperature,
+                varying: None,
             },
             BoundaryKind::Insulated => Self::Insulated,
             BoundaryKind::Flux { flux } => Self::Flux {
@@ -166,6 +220,7 @@ impl From<&Boundary> for ConditionOut {
                 h_w_per_m2_k: h,
                 resistance_m2_k_per_w: b.resistance,
                 ambient_c: ambient,
+                varying: None,
                 emissivity: None,
                 surroundings_c: None,
             },
@@ -338,6 +393,8 @@ fn materials<'a>(section: &'a Section, r: &'a Results) -> Vec<MaterialOut<'a>> {
                     .conductivity_table(m.id)
                     .map(|t| t.points.as_slice()),
                 heat_source_w_per_m3: m.heat_source,
+                heat_source_at_m: m.source_field.map(|f| f.at),
+                heat_source_gradient_w_per_m4: m.source_field.map(|f| f.gradient),
                 area_m2: res.map(|x| x.area),
                 heat_generated_w_per_m: res.map(|x| x.heat_generated),
                 mean_temperature_c: res.map(|x| x.mean_temperature),

@@ -138,9 +138,14 @@ fn accumulate(
             }
             BoundaryKind::Insulated | BoundaryKind::Radiation { .. } => {}
             BoundaryKind::Flux { flux } => acc[g].heat_flow += flux * l,
-            BoundaryKind::Convection { h, ambient } => {
-                acc[g].heat_flow += h * l * (ambient - 0.5 * (ta + tb));
-            }
+            BoundaryKind::Convection { h, ambient } => match &section.boundaries[id].field {
+                None => acc[g].heat_flow += h * l * (ambient - 0.5 * (ta + tb)),
+                Some(f) => {
+                    // T∞ and T both linear along the edge: the exact integral of h·(T∞ − T).
+                    let (aa, ab) = (f.value_at(mesh.nodes[a]), f.value_at(mesh.nodes[b]));
+                    acc[g].heat_flow += h * l * (0.5 * (aa + ab) - 0.5 * (ta + tb));
+                }
+            },
         }
     }
     add_reactions(fixed_ends, residual, &mut acc);

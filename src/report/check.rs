@@ -68,7 +68,15 @@ fn boundary_line(s: &Section, id: usize) -> String {
             r.emissivity,
             r.surroundings
         ),
-        _ => kind_line(&b.kind, b.resistance),
+        _ => match &b.field {
+            // the number in the kind is the field's value at its reference; say it varies
+            Some(f) => format!(
+                "{} (varies: {})",
+                kind_line(&b.kind, b.resistance),
+                f.describe("°C")
+            ),
+            None => kind_line(&b.kind, b.resistance),
+        },
     }
 }
 
@@ -138,7 +146,10 @@ fn materials_table(o: &mut String, s: &Section) {
                 ),
                 None => m.conductivity.to_string(),
             },
-            m.heat_source.to_string(),
+            match m.source_field {
+                Some(f) => crate::model::Field::Linear(f).describe("W/m³"),
+                None => m.heat_source.to_string(),
+            },
         ]);
     }
     push_table(o, &t, 1);

@@ -67,12 +67,15 @@ pub fn self_checks(
         solver_residual(system, &r.temperature, &rows),
     ];
     let used = used_boundaries(mesh);
-    let has_source = section.materials.iter().any(|m| m.heat_source != 0.0);
+    let has_source = section
+        .materials
+        .iter()
+        .any(|m| m.heat_source != 0.0 || m.source_field.is_some());
     let has_flux = used
         .iter()
         .any(|&b| matches!(section.boundaries[b].kind, BoundaryKind::Flux { flux } if flux != 0.0));
     if !has_source && !has_flux {
-        checks.push(maximum_principle(section, &used, r));
+        checks.push(maximum_principle(section, mesh, &used, r));
     }
     Ok(checks)
 }
@@ -208,11 +211,28 @@ pub(super) fn used_boundaries(mesh: &Mesh) -> Vec<usize> {
 }
 
 /// Range of the fixed, ambient and radiation surroundings temperatures of the used
-/// boundaries, °C.
-fn imposed_range(section: &Section, used: &[usize]) -> (f64, f64) {
+/// boundaries, °C; a temperature that varies with position enters by its values at the
+/// boundary's nodes (its extremes, being linear along each edge).
+fn imposed_range(section: &Section, mesh: &Mesh, used: &[usize]) -> (f64, f64) {
     let mut lo = f64::INFINITY;
     let mut hi = f64::NEG_INFINITY;
+    for e in &mesh.boundary_edges {
+        let Some(id) = e.boundary else { continue };
+        let b = &section.boundaries[id];
+        if b.field.is_none() {
+            continue;
+        }
+        for &v in &e.nodes {
+            if let Some(t) = b.value_at(mesh.nodes[v]) {
+                lo = lo.min(t);
+                hi = hi.max(t);
+            }
+        }
+    }
     for &b in used {
+        if section.boundaries[b].field.is_some() {
+            continue;
+        }
         match section.boundaries[b].kind {
             BoundaryKind::Fixed { temperature } => {
                 lo = lo.min(temperature);
@@ -233,8 +253,13 @@ fn imposed_range(section: &Section, used: &[usize]) -> (f64, f64) {
 }
 
 /// Without sources and imposed fluxes, temperatures lie within the imposed range (warning).
-pub(super) fn maximum_principle(section: &Section, used: &[usize], r: &Results) -> Check {
-    let (lo, hi) = imposed_range(section, used);
+pub(super) fn maximum_principle(
+    section: &Section,
+    mesh: &Mesh,
+    used: &[usize],
+    r: &Results,
+) -> Check {
+    let (lo, hi) = imposed_range(section, mesh, used);
     let range = (hi - lo).max(1e-300);
     let tol = MAX_PRINCIPLE_TOLERANCE * range.max(1.0);
     let below = lo - r.t_min.value;

@@ -156,7 +156,7 @@ fn nonlinear_checks(
         .iter()
         .any(|&b| matches!(section.boundaries[b].kind, BoundaryKind::Flux { flux } if flux != 0.0));
     if !has_source && !has_flux {
-        checks.push(checks::maximum_principle(section, &used, r));
+        checks.push(checks::maximum_principle(section, mesh, &used, r));
     }
     Ok(checks)
 }
