@@ -170,13 +170,13 @@ fn fan_groups(tris: &[usize], links: &[(usize, usize, usize)]) -> Vec<Vec<usize>
     }
     let mut groups: Vec<Vec<usize>> = Vec::new();
     let mut slot = vec![usize::MAX; tris.len()];
-    for i in 0..tris.len() {
+    for (i, &t) in tris.iter().enumerate() {
         let r = root(&mut parent, i);
         if slot[r] == usize::MAX {
             slot[r] = groups.len();
             groups.push(Vec::new());
         }
-        groups[slot[r]].push(tris[i]);
+        groups[slot[r]].push(t);
     }
     groups
 }
