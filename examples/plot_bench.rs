@@ -30,6 +30,7 @@ fn strip(nx: usize, ny: usize, w: f64, h: f64) -> Mesh {
         material: vec![0; n],
         triangles,
         boundary_edges: Vec::new(),
+        interfaces: Vec::new(),
         stats: MeshStats {
             nodes: 0,
             triangles: n,

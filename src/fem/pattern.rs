@@ -18,15 +18,29 @@ use sprs::CsMat;
 /// never depends on the thread count).
 pub const ELEMENT_CHUNK: usize = 16_384;
 
+/// The four nodes (a side, then b side) of every contact interface edge of `mesh`.
+fn interface_cliques(mesh: &Mesh) -> impl Iterator<Item = [usize; 4]> + '_ {
+    mesh.interfaces
+        .iter()
+        .map(|e| [e.a[0], e.a[1], e.b[0], e.b[1]])
+}
+
 /// The pattern of the P1 matrix of `mesh`: CSR row pointers and sorted column indices, one
-/// entry per pair of nodes that share a triangle and one per node on the diagonal.
+/// entry per pair of nodes that share a triangle or a contact interface edge, and one per node
+/// on the diagonal.
 pub fn csr_pattern(mesh: &Mesh) -> (Vec<usize>, Vec<usize>) {
     let n = mesh.nodes.len();
-    // Upper bound of each row's length: 3 per incident triangle (with repeats).
+    // Upper bound of each row's length: 3 per incident triangle, 4 per incident interface
+    // edge (with repeats).
     let mut start = vec![0usize; n + 1];
     for t in &mesh.triangles {
         for &v in t {
             start[v + 1] += 3;
+        }
+    }
+    for q in interface_cliques(mesh) {
+        for &v in &q {
+            start[v + 1] += 4;
         }
     }
     for i in 0..n {
@@ -39,6 +53,13 @@ pub fn csr_pattern(mesh: &Mesh) -> (Vec<usize>, Vec<usize>) {
             let at = fill[v];
             cols[at..at + 3].copy_from_slice(t);
             fill[v] += 3;
+        }
+    }
+    for q in interface_cliques(mesh) {
+        for &v in &q {
+            let at = fill[v];
+            cols[at..at + 4].copy_from_slice(&q);
+            fill[v] += 4;
         }
     }
     // Sort and deduplicate each row.
@@ -92,7 +113,8 @@ fn element_upper(mesh: &Mesh, conductivity: &[Conductivity], t: usize) -> [f64; 
 const UPPER: [[usize; 3]; 3] = [[0, 1, 2], [1, 3, 4], [2, 4, 5]];
 
 /// The conduction matrix of every triangle plus the film terms `edges` (node pair, diagonal
-/// and off-diagonal value), in CSR storage on the pattern of [`csr_pattern`].
+/// and off-diagonal value), then the contact interface edges of the mesh
+/// ([`interface_matrix`]), in CSR storage on the pattern of [`csr_pattern`].
 pub fn assemble_csr(
     mesh: &Mesh,
     conductivity: &[Conductivity],
@@ -126,5 +148,29 @@ pub fn assemble_csr(
         data[position(&indptr, &indices, a, b)] += o;
         data[position(&indptr, &indices, b, a)] += o;
     }
+    for e in &mesh.interfaces {
+        let c = interface_matrix(e.conductance, e.length);
+        let nodes = [e.a[0], e.a[1], e.b[0], e.b[1]];
+        for i in 0..4 {
+            for j in 0..4 {
+                data[position(&indptr, &indices, nodes[i], nodes[j])] += c[i][j];
+            }
+        }
+    }
     CsMat::new((n, n), indptr, indices, data)
+}
+
+/// The 4×4 matrix (nodes a0, a1, b0, b1) of a contact interface edge of length `length` and
+/// conductance `g` = 1/R: the consistent P1 line element of ∫ g·(T_a − T_b)·(N_a − N_b) ds,
+/// `[[C, −C], [−C, C]]` with `C = g·L/6·[[2, 1], [1, 2]]`. Its rows sum to zero: the interface
+/// carries heat from one side to the other and creates none.
+pub fn interface_matrix(g: f64, length: f64) -> [[f64; 4]; 4] {
+    let d = g * length / 3.0;
+    let o = g * length / 6.0;
+    [
+        [d, o, -d, -o],
+        [o, d, -o, -d],
+        [-d, -o, d, o],
+        [-o, -d, o, d],
+    ]
 }

@@ -88,6 +88,7 @@ pub fn rectangle_mesh(
         triangles,
         material,
         boundary_edges,
+        interfaces: Vec::new(),
         stats,
     }
 }

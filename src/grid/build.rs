@@ -561,6 +561,7 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             "grid model: not available for a nonlinear model (a conductivity table or a radiating boundary); the grid check is linear — use `converge` to check the element model's discretisation",
         ));
     }
+    refuse_contacts(section)?;
     if let Some(m) = section
         .materials
         .iter()
@@ -622,4 +623,16 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
         edges: links.edges,
         fixed_on: nodes.fixed_on,
     })
+}
+
+/// The grid model has no contact resistance: a model with `[[contacts]]` is refused by the grid
+/// check and by `compare`, naming the first contact.
+pub fn refuse_contacts(section: &Section) -> Result<()> {
+    match section.contacts.first() {
+        Some(c) => Err(Error::input(format!(
+            "contacts[0] ({}): the grid model and the cross-checks (gridcheck, compare) have no contact resistance; remove the [[contacts]] entries to cross-check the rest, or use `converge` to check the element model's discretisation",
+            c.label(&section.materials)
+        ))),
+        None => Ok(()),
+    }
 }

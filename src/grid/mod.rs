@@ -30,7 +30,7 @@ mod build;
 mod sample;
 mod solve;
 
-pub use build::build;
+pub use build::{build, refuse_contacts};
 pub use solve::solve;
 
 use crate::model::BoundaryKind;

@@ -134,11 +134,14 @@ pub(super) fn extract(
         &small_nodes,
         section.mesh.max_area,
     );
-    Ok(Mesh {
+    let mut mesh = Mesh {
         nodes,
         triangles,
         material,
         boundary_edges,
+        interfaces: Vec::new(),
         stats,
-    })
+    };
+    super::contact::split(section, &mut mesh);
+    Ok(mesh)
 }

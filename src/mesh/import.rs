@@ -33,6 +33,11 @@ pub fn read_mesh(
     boundary_path: Option<&Path>,
 ) -> Result<(Mesh, Vec<String>)> {
     let label = format!("--mesh {}", mesh_path.display());
+    if !section.contacts.is_empty() {
+        return Err(Error::input(format!(
+            "{label}: contacts[0]: a model with [[contacts]] is meshed here (the interface nodes are split after meshing); --mesh takes models without contact resistances"
+        )));
+    }
     let piece = grid_piece(mesh_path, &label)?;
     let mut warnings = Vec::new();
     let nodes = plane_points(&piece.points, section, &label)?;
@@ -102,6 +107,7 @@ pub fn read_mesh(
         material,
         boundary_edges,
         stats,
+        interfaces: Vec::new(),
     };
     mesh.check_consistency()?;
     Ok((mesh, warnings))

@@ -8,6 +8,7 @@
 //! `quality` computes its statistics; `import` reads a mesh made elsewhere (`solve --mesh`).
 
 mod classify;
+pub mod contact;
 mod extract;
 pub mod import;
 mod mesher;
@@ -38,6 +39,25 @@ pub struct BoundaryEdge {
     /// Index of the ring's segment the edge lies on (validated order: see
     /// `Ring::written_segment` for the index as written).
     pub segment: usize,
+}
+
+/// An edge where two materials of a contact meet, split into two node pairs (one per side) and
+/// coupled by the conductance 1/R per unit length (`mesh::contact`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct InterfaceEdge {
+    /// The edge's nodes on the side of the contact's first material (`Contact::a`).
+    pub a: [usize; 2],
+    /// The same points' nodes on the side of the second material (`Contact::b`); equal to the
+    /// `a` node where the interface ends (no split there).
+    pub b: [usize; 2],
+    /// The triangles on the a side and on the b side.
+    pub triangles: [usize; 2],
+    /// Index into `Section::contacts`.
+    pub contact: usize,
+    /// Edge length, m.
+    pub length: f64,
+    /// Contact conductance 1/R, W/(m²·K).
+    pub conductance: f64,
 }
 
 /// A triangle angle that cannot be raised to the limit because two input segments meet at a
@@ -91,6 +111,8 @@ pub struct Mesh {
     pub material: Vec<usize>,
     /// Every edge on the outline or a hole, each once.
     pub boundary_edges: Vec<BoundaryEdge>,
+    /// Contact interface edges (empty without `[[contacts]]`), in order of their nodes.
+    pub interfaces: Vec<InterfaceEdge>,
     /// Size and quality figures.
     pub stats: MeshStats,
 }

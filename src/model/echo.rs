@@ -79,6 +79,7 @@ impl Section {
                 .collect(),
             cases: super::cases::case_files(self),
             cuts: super::cuts::cut_files(&self.cuts),
+            contacts: super::contacts::contact_files(&self.contacts, &self.materials),
             environments,
             psi,
             geojson: self.geojson.clone(),

@@ -50,6 +50,9 @@ pub struct ModelFile {
     /// `[[cuts]]`: polylines across which the heat flow is reported.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub cuts: Vec<super::CutFile>,
+    /// `[[contacts]]`: contact resistances where two materials meet.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub contacts: Vec<super::ContactFile>,
     /// `[environments]`: groups of convection boundaries sharing one ambient, for coupling
     /// coefficients and temperature factors.
     #[serde(default, skip_serializing_if = "super::EnvironmentsFile::is_empty")]

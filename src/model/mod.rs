@@ -7,6 +7,7 @@ use serde::Serialize;
 
 mod cases;
 mod conductivity;
+mod contacts;
 mod cuts;
 mod echo;
 mod environments;
@@ -29,6 +30,7 @@ pub use cases::{
     RESERVED_CASE_NAMES,
 };
 pub use conductivity::{ConductivityFile, ConductivityLaw, MAX_ABS_ORIENTATION_DEG};
+pub use contacts::{Contact, ContactFile, MAX_CONTACT_RESISTANCE};
 pub use cuts::{Cut, CutFile};
 pub use environments::{
     Environment, Environments, EnvironmentsFile, F_RSI_MIN_KEY, MAX_ENVIRONMENTS, MAX_REFERENCE_U,
@@ -309,6 +311,8 @@ pub struct Section {
     pub cases: Vec<Case>,
     /// Cuts in file order (`[[cuts]]`).
     pub cuts: Vec<Cut>,
+    /// Contact resistances in file order (`[[contacts]]`).
+    pub contacts: Vec<Contact>,
     /// Environments and ψ declarations (`[environments]`, `[[psi]]`).
     pub environments: Environments,
     /// Conductivity tables and radiating boundaries (empty tables for a linear model).

@@ -41,6 +41,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     let lines = validate_lines(file)?;
     let cases = validate_cases(file, &materials, &boundaries)?;
     let cuts = super::cuts::validate_cuts(file)?;
+    let contacts = super::contacts::validate_contacts(file, &materials)?;
     let environments =
         super::environments::validate_environments(file, &boundaries, &boundary_ids)?;
     let ctx = RingContext {
@@ -71,6 +72,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         lines,
         cases,
         cuts,
+        contacts,
         environments,
         nonlinear,
         geojson: file.geojson.clone(),

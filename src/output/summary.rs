@@ -348,6 +348,8 @@ struct Summary<'a> {
     lines: Vec<LineOut<'a>>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     cuts: Vec<CutOut<'a>>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    contacts: Vec<crate::post::contacts::ContactFlow>,
     items: Vec<ItemOut<'a>>,
     #[serde(flatten, skip_serializing_if = "Option::is_none")]
     coupling: Option<super::coupling::CouplingOut<'a>>,
@@ -597,6 +599,7 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
         probes: probes(r),
         lines: lines(r),
         cuts: cuts(r),
+        contacts: crate::post::contacts::contact_flows(section, mesh, &r.temperature),
         items: items(r),
         coupling: inputs
             .coupling

@@ -34,6 +34,7 @@ fn tiny_mesh() -> Mesh {
         triangles: vec![[0, 1, 2], [0, 2, 3]],
         material: vec![0, 1],
         boundary_edges: vec![edge(0, 1, 0), edge(1, 2, 0), edge(2, 3, 1), edge(3, 0, 1)],
+        interfaces: Vec::new(),
         stats: MeshStats {
             nodes: 4,
             triangles: 2,

@@ -13,6 +13,7 @@
 //! [`Locator`] (point location and nearest boundary point) is public for reuse by other
 //! features.
 
+pub mod contacts;
 pub mod cuts;
 pub mod estimate;
 pub mod field;

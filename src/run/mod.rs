@@ -265,6 +265,10 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
+    warnings.extend(crate::mesh::contact::unmet_warnings(
+        &prepared.section,
+        &mesh,
+    ));
     for w in &results.warnings {
         if !warnings.contains(w) {
             warnings.push(w.clone());

@@ -50,6 +50,10 @@ pub fn solve_nonlinear(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<So
     let error_estimate = estimate::zz_estimate(section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
+    warnings.extend(crate::mesh::contact::unmet_warnings(
+        &prepared.section,
+        &mesh,
+    ));
     for w in results
         .warnings
         .iter()

@@ -232,6 +232,7 @@ pub fn solve_element(
     fe_max_area: Option<f64>,
 ) -> Result<Solved> {
     check_fe_max_area(fe_max_area)?;
+    crate::grid::refuse_contacts(&prepared.section)?;
     if let Some(a) = fe_max_area {
         prepared.section.mesh.max_area = a;
         prepared.section.mesh.max_area_is_default = false;
