@@ -627,3 +627,78 @@ fn bad_physics_inputs_exit_2_name_the_key_and_write_nothing() {
         assert!(!out.exists(), "case {case}: output directory was created");
     }
 }
+
+#[test]
+fn bad_point_sources_exit_2_name_the_source_and_write_nothing() {
+    let ps = |name: &str, at: &str, power: &str| {
+        format!("\n[[point_sources]]\nname = \"{name}\"\nat = {at}\npower = {power}\n")
+    };
+    let ok = ps("cable", "[5.0, 3.0]", "30.0");
+    let cases: Vec<(&str, String, &[&str])> = vec![
+        (
+            "name-missing",
+            format!("{BASE}\n[[point_sources]]\nat = [5.0, 3.0]\npower = 1.0\n"),
+            &["point_sources", "name"],
+        ),
+        (
+            "name-empty",
+            format!("{BASE}{}", ps("", "[5.0, 3.0]", "1.0")),
+            &["point_sources[0]", "empty"],
+        ),
+        (
+            "name-duplicate",
+            format!("{BASE}{ok}{}", ps("CABLE", "[6.0, 3.0]", "1.0")),
+            &["point_sources[1]", "cable"],
+        ),
+        (
+            "at-not-finite",
+            format!("{BASE}{}", ps("c", "[nan, 3.0]", "1.0")),
+            &["point_sources[0]", "at"],
+        ),
+        (
+            "outside",
+            format!("{BASE}{}", ps("c", "[9.0, 3.0]", "1.0")),
+            &["point_sources[0]", "outside the outline"],
+        ),
+        (
+            "in-hole",
+            format!("{BASE}{}", ps("c", "[2.0, 2.0]", "1.0")),
+            &["point_sources[0]", "inside holes[0]"],
+        ),
+        (
+            "on-ring-edge",
+            format!("{BASE}{}", ps("c", "[8.0, 3.0]", "1.0")),
+            &["point_sources[0]", "lies on outline segment 1"],
+        ),
+        (
+            "power-nan",
+            format!("{BASE}{}", ps("c", "[5.0, 3.0]", "nan")),
+            &["point_sources[0]", "power"],
+        ),
+        (
+            "power-absurd",
+            format!("{BASE}{}", ps("c", "[5.0, 3.0]", "1e9")),
+            &["point_sources[0]", "power", "1e8"],
+        ),
+        (
+            "same-place",
+            format!("{BASE}{ok}{}", ps("pipe", "[5.0, 3.0]", "1.0")),
+            &["point_sources[1]", "at the place of point_sources[0]"],
+        ),
+        (
+            "unknown-key",
+            format!(
+                "{BASE}\n[[point_sources]]\nname = \"c\"\nat = [5.0, 3.0]\npower = 1.0\nradius = 0.1\n"
+            ),
+            &["radius"],
+        ),
+    ];
+    for (case, model, needles) in cases {
+        let (code, err, _dir, out) = run_solve(&model);
+        assert_eq!(code, 2, "case {case}: exit code {code}, stderr: {err}");
+        for n in needles {
+            assert!(err.contains(n), "case {case}: stderr lacks {n:?}: {err}");
+        }
+        assert!(!out.exists(), "case {case}: output directory was created");
+    }
+}

@@ -169,9 +169,9 @@ fn an_overflowed_balance_is_not_closed() {
         max_temperature: 0.0,
         radiation_coefficient: None,
     };
-    let e = post::flows::EnergyBalance::of(&[b(1.7e308), b(1.7e308)], &[], 1.0);
+    let e = post::flows::EnergyBalance::of(&[b(1.7e308), b(1.7e308)], &[], &[], 1.0);
     assert!(e.imbalance_relative.is_nan(), "{e:?}");
-    let e = post::flows::EnergyBalance::of(&[b(1.0), b(-1.0)], &[], 1.0);
+    let e = post::flows::EnergyBalance::of(&[b(1.0), b(-1.0)], &[], &[], 1.0);
     assert_eq!(e.imbalance_relative, 0.0);
 }
 

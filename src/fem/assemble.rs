@@ -32,6 +32,17 @@ pub struct LoadCase {
     /// Per material id: the heat source when it is linear in position (it then replaces
     /// `heat_source`).
     pub source_field: Vec<Option<LinearField>>,
+    /// Per point source (`Section::point_sources` order), W/m.
+    pub point_power: Vec<f64>,
+}
+
+/// A point source's load: its power at the mesh node that lies exactly at its position.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PointLoad {
+    /// The node at the source's position.
+    pub node: usize,
+    /// Heat released, W per metre of depth (negative: a sink).
+    pub power: f64,
 }
 
 impl LoadCase {
@@ -54,6 +65,7 @@ impl LoadCase {
             heat_source,
             boundary_field: section.boundaries.iter().map(|b| b.field.clone()).collect(),
             source_field: section.materials.iter().map(|m| m.source_field).collect(),
+            point_power: section.point_sources.iter().map(|s| s.power).collect(),
         }
     }
 
@@ -83,6 +95,8 @@ pub struct Load {
     pub fixed: Vec<Option<f64>>,
     /// Heat generated in each triangle, `Q·A`, W/m.
     pub cell_source: Vec<f64>,
+    /// The point sources' loads, in `Section::point_sources` order.
+    pub point_source: Vec<PointLoad>,
 }
 
 /// Conductivity tensor of every material, in material-id order. The values were validated by
@@ -120,7 +134,7 @@ pub fn assemble_matrix(section: &Section, mesh: &Mesh) -> Result<CsMat<f64>> {
 pub fn assemble_load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Result<Load> {
     check_mesh(section, mesh)?;
     check_load_case(section, case)?;
-    Ok(load(section, mesh, case))
+    load(section, mesh, case)
 }
 
 /// The matrix of a checked mesh: triangle conduction, then edge film terms `h·L/6·[[2, 1],
@@ -149,16 +163,55 @@ fn convection_edges<'m>(
 }
 
 /// The load of a checked mesh and load case: sources per triangle, fluxes and ambient terms
-/// per edge, Dirichlet values per fixed node.
-pub(crate) fn load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Load {
+/// per edge, point sources at their nodes, Dirichlet values per fixed node.
+pub(crate) fn load(section: &Section, mesh: &Mesh, case: &LoadCase) -> Result<Load> {
     let n = mesh.nodes.len();
     let mut vector = vec![0.0; n];
     let cell_source = add_sources(&mut vector, mesh, case);
     add_edge_loads(&mut vector, section, mesh, case);
-    Load {
+    let point_source: Vec<PointLoad> = point_source_nodes(section, mesh)?
+        .into_iter()
+        .zip(&case.point_power)
+        .map(|(node, &power)| PointLoad { node, power })
+        .collect();
+    for p in &point_source {
+        vector[p.node] += p.power;
+    }
+    Ok(Load {
         vector,
         fixed: fixed_values(section, mesh, case),
         cell_source,
+        point_source,
+    })
+}
+
+/// The mesh node at each point source's position (exactly: the mesher inserted it there), in
+/// `Section::point_sources` order; a missing node is an internal error.
+pub fn point_source_nodes(section: &Section, mesh: &Mesh) -> Result<Vec<usize>> {
+    if section.point_sources.is_empty() {
+        return Ok(Vec::new());
+    }
+    // +0.0 turns −0.0 into +0.0, so equal coordinates give equal bits.
+    let key = |p: [f64; 2]| ((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits());
+    let wanted: std::collections::BTreeMap<(u64, u64), usize> = section
+        .point_sources
+        .iter()
+        .enumerate()
+        .map(|(i, s)| (key(s.at), i))
+        .collect();
+    let mut node = vec![usize::MAX; section.point_sources.len()];
+    for (n, p) in mesh.nodes.iter().enumerate() {
+        if let Some(&i) = wanted.get(&key(*p)) {
+            node[i] = node[i].min(n);
+        }
+    }
+    match node.iter().position(|&n| n == usize::MAX) {
+        Some(i) => Err(Error::run(format!(
+            "internal: no mesh node at point_sources[{i}] \"{}\" {}",
+            section.point_sources[i].name,
+            crate::geom::format_point(section.point_sources[i].at)
+        ))),
+        None => Ok(node),
     }
 }
 

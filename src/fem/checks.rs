@@ -152,6 +152,21 @@ pub(crate) fn check_load_case(section: &Section, case: &LoadCase) -> Result<()> 
             )));
         }
     }
+    if case.point_power.len() != section.point_sources.len() {
+        return Err(Error::input(format!(
+            "load case has {} point powers for {} point sources",
+            case.point_power.len(),
+            section.point_sources.len()
+        )));
+    }
+    for (s, p) in section.point_sources.iter().zip(&case.point_power) {
+        if !p.is_finite() {
+            return Err(Error::input(format!(
+                "point_sources.{}: power = {p} W/m must be finite",
+                s.name
+            )));
+        }
+    }
     for (m, q) in section.materials.iter().zip(&case.heat_source) {
         if !q.is_finite() {
             return Err(Error::input(format!(

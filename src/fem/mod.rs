@@ -6,7 +6,7 @@
 //! - [`assemble`](mod@assemble): the global matrix (conduction, convection
 //!   `h·L/6·[[2,1],[1,2]]` per convective edge) and loads (uniform source `Q·A/3` per triangle
 //!   node, imposed flux `q·L/2` and convection `h·T∞·L/2` per edge node, positive into the
-//!   section), the Dirichlet values of nodes on fixed edges;
+//!   section, a point source's power P at its node), the Dirichlet values of nodes on fixed edges;
 //! - [`pattern`]: the CSR sparsity pattern from the triangles and the parallel, deterministic
 //!   scatter of element matrices into it;
 //! - [`checks`]: the consistency of the mesh against the section and the refusal of singular
@@ -28,7 +28,10 @@ mod tests;
 pub(crate) mod testutil;
 
 pub(crate) use assemble::mat_vec;
-pub use assemble::{Load, LoadCase, assemble_load, assemble_matrix, material_conductivity};
+pub use assemble::{
+    Load, LoadCase, PointLoad, assemble_load, assemble_matrix, material_conductivity,
+    point_source_nodes,
+};
 pub use checks::{SINGULAR_MODEL_MESSAGE, check_mesh};
 pub use element::{Conductivity, TriangleGeometry};
 
@@ -50,6 +53,8 @@ pub struct System {
     pub fixed: Vec<Option<f64>>,
     /// Heat generated in each triangle, `Q·A`, W/m.
     pub cell_source: Vec<f64>,
+    /// The point sources' loads (node and power, W/m), in `Section::point_sources` order.
+    pub point_source: Vec<PointLoad>,
     /// Conductivity per material id.
     pub conductivity: Vec<Conductivity>,
     /// Conductivity per triangle where it depends on the temperature (a nonlinear model: each
@@ -115,12 +120,13 @@ pub fn assemble(section: &Section, mesh: &Mesh) -> Result<System> {
     checks::check_determined(section, mesh)?;
     let conductivity = material_conductivity(section);
     let matrix = assemble::matrix(section, mesh, &conductivity);
-    let load = assemble::load(section, mesh, &LoadCase::from_section(section));
+    let load = assemble::load(section, mesh, &LoadCase::from_section(section))?;
     Ok(System {
         matrix: Arc::new(matrix),
         load: load.vector,
         fixed: load.fixed,
         cell_source: load.cell_source,
+        point_source: load.point_source,
         conductivity,
         cell_conductivity: None,
     })

@@ -15,7 +15,7 @@
 
 use super::element::{Conductivity, TriangleGeometry};
 use super::pattern::{csr_pattern, position};
-use super::{LoadCase, System, assemble, check_mesh, checks, material_conductivity};
+use super::{LoadCase, PointLoad, System, assemble, check_mesh, checks, material_conductivity};
 use crate::error::Result;
 use crate::mesh::Mesh;
 use crate::model::{ABSOLUTE_ZERO_C, ConductivityTable, Radiation, STEFAN_BOLTZMANN, Section};
@@ -126,6 +126,7 @@ pub struct NonlinearSystem {
     load: Vec<f64>,
     fixed: Vec<Option<f64>>,
     cell_source: Vec<f64>,
+    point_source: Vec<PointLoad>,
     conductivity: Vec<Conductivity>,
     tables: Vec<Option<ConductivityTable>>,
     table_triangles: Vec<TableTriangle>,
@@ -146,7 +147,7 @@ impl NonlinearSystem {
             }
         }
         let linear = assemble::matrix(section, mesh, &linear_k);
-        let load = assemble::load(section, mesh, &LoadCase::from_section(section));
+        let load = assemble::load(section, mesh, &LoadCase::from_section(section))?;
         let (indptr, indices) = csr_pattern(mesh);
         let mut table_triangles = Vec::new();
         for (t, ids) in mesh.triangles.iter().enumerate() {
@@ -191,6 +192,7 @@ impl NonlinearSystem {
             load: load.vector,
             fixed: load.fixed,
             cell_source: load.cell_source,
+            point_source: load.point_source,
             conductivity,
             tables,
             table_triangles,
@@ -335,6 +337,7 @@ impl NonlinearSystem {
             load,
             fixed: self.fixed.clone(),
             cell_source: self.cell_source.clone(),
+            point_source: self.point_source.clone(),
             conductivity: self.conductivity.clone(),
             cell_conductivity: Some(self.cell_conductivity(mesh, t)),
         }
@@ -383,6 +386,7 @@ impl NonlinearSystem {
             load,
             fixed: self.fixed.clone(),
             cell_source: self.cell_source.clone(),
+            point_source: self.point_source.clone(),
             conductivity: self.conductivity.clone(),
             cell_conductivity: None,
         }

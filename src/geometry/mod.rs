@@ -1,5 +1,6 @@
 //! Geometry stage: checks that need several rings at once (self-intersection, holes inside the
-//! outline and apart from each other, probes and lines inside the section) and builds the
+//! outline and apart from each other, probes and lines inside the section, point sources inside
+//! the material and off every ring) and builds the
 //! planar straight-line graph (PSLG) the mesher triangulates. Every input segment is split at
 //! every contact with another segment (crossings, T-junctions, collinear overlaps) after snapping
 //! points closer than the tolerance, so the mesher receives non-crossing constraints only. Each
@@ -19,8 +20,9 @@ pub use features::{
 };
 
 use crate::error::{Error, Result};
+use crate::geom::index::{self, BoxIndex, PointIndex};
 use crate::geom::{self, Point};
-use crate::model::Section;
+use crate::model::{POINT_SOURCE_CLEARANCE, Section};
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -107,6 +109,9 @@ pub struct Pslg {
     pub zone_material: Vec<usize>,
     /// Snapping tolerance, m.
     pub tol: f64,
+    /// Free vertices the mesh must hold exactly (the point sources' positions, in
+    /// `Section::point_sources` order), each inside the material and off every piece.
+    pub points: Vec<Point>,
     /// Corners where fixed boundaries of different temperatures meet.
     pub jump_corners: Vec<JumpCorner>,
     /// Places where pieces sharing no vertex come closer than the resolution
@@ -139,6 +144,7 @@ pub fn build(section: &Section) -> Result<Pslg> {
     check_regions_have_area(&assembled.zone_seen)?;
     check_probes(section, &classifier, tol)?;
     check_lines(section, &classifier, tol)?;
+    check_point_sources(section, &classifier)?;
     let jump_corners = features::jump_corners(section, &classifier, &zone_material);
     warnings.extend(jump_corners.iter().map(|c| jump_corner_warning(section, c)));
     let thin_limit = THIN_FEATURE_FACTOR * section.diameter();
@@ -151,6 +157,7 @@ pub fn build(section: &Section) -> Result<Pslg> {
         pieces: assembled.pieces,
         zone_material,
         tol,
+        points: section.point_sources.iter().map(|s| s.at).collect(),
         jump_corners,
         thin_features,
         warnings,
@@ -349,6 +356,79 @@ fn check_probes(section: &Section, classifier: &Classifier, tol: f64) -> Result<
                 )));
             }
         }
+    }
+    Ok(())
+}
+
+/// Point sources inside the material (not outside the outline, not in a hole), at least
+/// [`POINT_SOURCE_CLEARANCE`] × the section's diameter away from every ring segment (outline,
+/// holes, regions: a source on a boundary or a material interface is refused) and from each
+/// other.
+fn check_point_sources(section: &Section, classifier: &Classifier) -> Result<()> {
+    if section.point_sources.is_empty() {
+        return Ok(());
+    }
+    let clearance = POINT_SOURCE_CLEARANCE * section.diameter();
+    let rings: Vec<(String, &crate::model::Ring)> =
+        std::iter::once(("outline".into(), &section.outline))
+            .chain(
+                section
+                    .holes
+                    .iter()
+                    .enumerate()
+                    .map(|(i, h)| (format!("holes[{i}]"), h)),
+            )
+            .chain(
+                section
+                    .regions
+                    .iter()
+                    .enumerate()
+                    .map(|(i, r)| (format!("regions[{i}]"), &r.ring)),
+            )
+            .collect();
+    let segs: Vec<(usize, usize)> = rings
+        .iter()
+        .enumerate()
+        .flat_map(|(r, (_, ring))| (0..ring.len()).map(move |j| (r, j)))
+        .collect();
+    let index = BoxIndex::new(segs.iter().map(|&(r, j)| {
+        let (a, b) = rings[r].1.segment(j);
+        index::segment_bbox(a, b)
+    }));
+    let mut near = PointIndex::new();
+    let mut found = Vec::new();
+    for (i, s) in section.point_sources.iter().enumerate() {
+        let label = format!("point_sources[{i}] \"{}\"", s.name);
+        let at = geom::format_point(s.at);
+        for k in index.meeting_vec(index::inflate(index::segment_bbox(s.at, s.at), clearance)) {
+            let (r, j) = segs[k];
+            let (a, b) = rings[r].1.segment(j);
+            let d = geom::project(a, b, s.at).1;
+            if d <= clearance {
+                return Err(Error::input(format!(
+                    "{label}: point {at} lies on {} segment {} ({d:.3e} m from it, closer than {clearance:.3e} m = {POINT_SOURCE_CLEARANCE:e} × the section's diameter); a point source must lie inside one material — move it off the edge (heat entering through a boundary is a flux boundary)",
+                    rings[r].0, rings[r].1.written_segment[j]
+                )));
+            }
+        }
+        if classifier.zone(s.at).is_none() {
+            let place = match classifier.hole_containing(s.at) {
+                Some(h) => format!("inside holes[{h}]"),
+                None => "outside the outline".to_string(),
+            };
+            return Err(Error::input(format!(
+                "{label}: point {at} lies {place}; a point source must lie in the material"
+            )));
+        }
+        found.clear();
+        near.within(s.at, clearance, &mut found);
+        if let Some(&other) = found.first() {
+            return Err(Error::input(format!(
+                "{label}: point {at} is at the place of point_sources[{other}] \"{}\" (closer than {clearance:.3e} m); give one source the sum of their powers",
+                section.point_sources[other].name
+            )));
+        }
+        near.insert(s.at, i);
     }
     Ok(())
 }

@@ -585,6 +585,12 @@ pub fn build(section: &Section, spacing: f64) -> Result<GridModel> {
             m.name
         )));
     }
+    if let Some(s) = section.point_sources.first() {
+        return Err(Error::input(format!(
+            "point_sources[0] \"{}\": the grid model takes no point sources (its nodes do not hold them); compare the element model with `converge` instead",
+            s.name
+        )));
+    }
     // Ring checks (crossings, holes inside the outline, ...) are those of the element model.
     geometry::build(section)?;
     let mut b = Builder {

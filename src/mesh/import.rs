@@ -78,6 +78,15 @@ pub fn read_mesh(
         return Err(Error::input(format!("{label}: the grid has no cells")));
     }
     let material = material_ids(&piece.data.cell, triangles.len(), section, &label)?;
+    for (i, ps) in section.point_sources.iter().enumerate() {
+        if !nodes.contains(&ps.at) {
+            return Err(Error::input(format!(
+                "{label}: point_sources[{i}] \"{}\" at {}: no mesh point lies exactly there (the source's load goes to the node at its position)",
+                ps.name,
+                format_point(ps.at)
+            )));
+        }
+    }
     check_points(&nodes, &triangles, &label)?;
     let turned = orient(&nodes, &mut triangles, &label)?;
     if turned > 0 {

@@ -94,7 +94,7 @@ fn boundary_estimate(section: &Section, pslg: &Pslg, opts: &MeshOptions) -> Resu
             Some(4.0 * geom::distance(pslg.vertices[p.v[0]], pslg.vertices[p.v[1]]) / s)
         })
         .sum();
-    let points = pslg.vertices.len();
+    let points = pslg.vertices.len() + pslg.points.len();
     let estimate = sized + super::estimate_point_triangles(points);
     if estimate > opts.max_triangles as f64 {
         return Err(Error::input(format!(
@@ -261,6 +261,9 @@ impl<'a> Mesher<'a> {
             .collect();
         let boundary = boundary_estimate(section, pslg, opts)?;
         let cons = constraints(section, pslg, &to_cdt, &mut verts);
+        // Free vertices (point sources): spade keeps every vertex where it was inserted, so a
+        // mesh node lies exactly at each.
+        verts.extend(pslg.points.iter().map(|p| Point2::new(p[0], p[1])));
         add_frame(&mut verts);
         let cdt = triangulate(&verts, &cons)?;
         let small = small_input_angles(

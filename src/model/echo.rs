@@ -77,6 +77,7 @@ impl Section {
                     samples: l.samples,
                 })
                 .collect(),
+            point_sources: super::point_sources::point_source_files(&self.point_sources),
             cases: super::cases::case_files(self),
             cuts: super::cuts::cut_files(&self.cuts),
             contacts: super::contacts::contact_files(&self.contacts, &self.materials),

@@ -451,7 +451,7 @@ pub(super) fn environment_files(section: &Section) -> (EnvironmentsFile, Vec<Psi
 impl Section {
     /// The section of the unit solve of environment `k` (for the coupling coefficients): the
     /// boundaries of environment `k` at ambient 1 °C, every other convection boundary at 0 °C,
-    /// every fixed boundary at 0 °C, fluxes and heat sources zero; film coefficients,
+    /// every fixed boundary at 0 °C, fluxes, heat sources and point source powers zero; film coefficients,
     /// conductivities, geometry unchanged (so the base matrix and its factorisation apply).
     /// Load cases, cuts, probes and lines are kept; environments too.
     pub fn unit_environment_section(&self, k: usize) -> Option<Section> {
@@ -461,6 +461,9 @@ impl Section {
         for m in &mut s.materials {
             m.heat_source = 0.0;
             m.source_field = None;
+        }
+        for p in &mut s.point_sources {
+            p.power = 0.0;
         }
         for (id, b) in s.boundaries.iter_mut().enumerate() {
             b.field = None;

@@ -44,6 +44,9 @@ pub struct ModelFile {
     /// `[[lines]]`: sampled lines.
     #[serde(default)]
     pub lines: Vec<LineFile>,
+    /// `[[point_sources]]`: line sources along the depth (cables, small pipes), W/m.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub point_sources: Vec<super::PointSourceFile>,
     /// `[[cases]]`: load cases, each overriding values of the base model.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub cases: Vec<super::CaseFile>,
@@ -360,7 +363,9 @@ impl<'de> Deserialize<'de> for Point2 {
 }
 
 /// Deserializes the point of key `at`, exactly two numbers.
-fn point_at<'de, D: serde::Deserializer<'de>>(d: D) -> std::result::Result<[f64; 2], D::Error> {
+pub(super) fn point_at<'de, D: serde::Deserializer<'de>>(
+    d: D,
+) -> std::result::Result<[f64; 2], D::Error> {
     d.deserialize_seq(PointVisitor("at")).map(|p| p.0)
 }
 

@@ -15,6 +15,7 @@ mod field;
 mod file;
 mod import;
 mod nonlinear;
+mod point_sources;
 mod ring;
 mod schema;
 mod shapes;
@@ -45,6 +46,9 @@ pub use import::{
     DrawingFile, GeojsonFile, Imported, LayerFile, MAX_IMPORT_FILE_BYTES, resolve_imports,
 };
 pub use nonlinear::{ConductivityTable, MAX_TABLE_POINTS, Nonlinear, Radiation, STEFAN_BOLTZMANN};
+pub use point_sources::{
+    MAX_ABS_POINT_POWER, MAX_POINT_SOURCES, POINT_SOURCE_CLEARANCE, PointSource, PointSourceFile,
+};
 pub use ring::{circle_segments, ring_circle_segments};
 pub use schema::{MODEL_SCHEMA_ID, model_schema, schema_settings, without_null};
 pub use shapes::{ARC_RADIUS_TOLERANCE, Arc};
@@ -306,6 +310,8 @@ pub struct Section {
     pub probes: Vec<Probe>,
     /// Lines in file order.
     pub lines: Vec<Line>,
+    /// Point sources in file order (`[[point_sources]]`).
+    pub point_sources: Vec<PointSource>,
     /// Load cases in file order (`[[cases]]`); [`Section::case_section`] gives the section of
     /// one.
     pub cases: Vec<Case>,
@@ -332,6 +338,15 @@ pub struct Section {
 struct Validated;
 
 impl Section {
+    /// Whether any material has a heat source or any point source a power other than zero
+    /// (then the maximum principle does not bound the field by its boundary values).
+    pub fn has_source(&self) -> bool {
+        self.materials
+            .iter()
+            .any(|m| m.heat_source != 0.0 || m.source_field.is_some())
+            || self.point_sources.iter().any(|s| s.power != 0.0)
+    }
+
     /// Diagonal of the outline's bounding box, m.
     pub fn diameter(&self) -> f64 {
         let mut lo = [f64::INFINITY; 2];

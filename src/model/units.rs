@@ -115,6 +115,9 @@ fn map_lengths(m: &mut ModelFile, g: &dyn Fn(f64) -> f64) {
         p(&mut l.from);
         p(&mut l.to);
     }
+    for s in &mut m.point_sources {
+        p(&mut s.at);
+    }
     for c in &mut m.cuts {
         c.points.iter_mut().for_each(p);
     }

@@ -39,6 +39,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
     check_written_points(file, mesh.max_area)?;
     let probes = validate_probes(file)?;
     let lines = validate_lines(file)?;
+    let point_sources = super::point_sources::validate_point_sources(file)?;
     let cases = validate_cases(file, &materials, &boundaries)?;
     let cuts = super::cuts::validate_cuts(file)?;
     let contacts = super::contacts::validate_contacts(file, &materials)?;
@@ -70,6 +71,7 @@ pub fn validate(file: &ModelFile) -> Result<Section> {
         boundaries,
         probes,
         lines,
+        point_sources,
         cases,
         cuts,
         contacts,

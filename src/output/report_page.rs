@@ -37,6 +37,7 @@ pub fn report_html(sv: &Solved, picture: Option<&str>, files: &[String]) -> Vec<
     if let Some(c) = &sv.coupling {
         coupling_section(&mut page, c);
     }
+    point_sources_section(&mut page, r);
     probes_section(&mut page, s, r);
     cases_section(&mut page, sv);
     accuracy_section(&mut page, sv);
@@ -451,6 +452,36 @@ fn coupling_section(page: &mut Page, c: &Coupling) {
         }
         page.table(&t);
     }
+}
+
+fn point_sources_section(page: &mut Page, r: &Results) {
+    if r.point_sources.is_empty() {
+        return;
+    }
+    page.section("point-sources", "Point sources");
+    page.p(
+        "Line sources along the depth, each a load P at the mesh node at its position. Their powers are part of the heat source of the energy balance. The temperature at a source's node depends on the mesh (the exact field is logarithmic, infinite at the line): read temperatures at probes standing off the source.",
+    );
+    let mut t = HtmlTable::new(
+        &[
+            "point source",
+            "x m",
+            "y m",
+            "power W/m",
+            "node temperature °C",
+        ],
+        "lrrrr",
+    );
+    for p in &r.point_sources {
+        t.row(vec![
+            p.name.clone(),
+            fixed(p.at[0], 4),
+            fixed(p.at[1], 4),
+            fixed(p.power, 4),
+            fixed(p.temperature, 4),
+        ]);
+    }
+    page.table(&t);
 }
 
 fn probes_section(page: &mut Page, s: &Section, r: &Results) {

@@ -342,6 +342,8 @@ struct Summary<'a> {
     heat_flow_w_per_m: OrderedMap<&'a str, f64>,
     boundaries: Vec<BoundaryOut<'a>>,
     heat_source_w_per_m: f64,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    point_sources: Vec<PointSourceOut<'a>>,
     energy_imbalance_w_per_m: f64,
     energy_imbalance_relative: f64,
     probes: Vec<ProbeOut<'a>>,
@@ -365,6 +367,34 @@ struct Summary<'a> {
     #[serde(skip_serializing_if = "Option::is_none")]
     files: Option<&'a [ManifestEntry]>,
     run: RunOut,
+}
+
+/// A point source with the temperature of its node.
+#[derive(Serialize)]
+struct PointSourceOut<'a> {
+    name: &'a str,
+    at_m: [f64; 2],
+    power_w_per_m: f64,
+    node: usize,
+    temperature_c: f64,
+    note: &'static str,
+}
+
+/// What the temperature at a point source means.
+const POINT_SOURCE_NOTE: &str = "temperature_c is the temperature of the mesh node at the source: it depends on the mesh (the exact field is logarithmic, infinite at the line); read temperatures at probes standing off the source";
+
+fn point_sources(r: &Results) -> Vec<PointSourceOut<'_>> {
+    r.point_sources
+        .iter()
+        .map(|p| PointSourceOut {
+            name: &p.name,
+            at_m: p.at,
+            power_w_per_m: p.power,
+            node: p.node,
+            temperature_c: p.temperature,
+            note: POINT_SOURCE_NOTE,
+        })
+        .collect()
 }
 
 /// Step 1: every boundary name appears once (the heat-flow object is keyed by name).
@@ -594,6 +624,7 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
         ),
         boundaries: boundaries(section, r),
         heat_source_w_per_m: r.heat_source,
+        point_sources: point_sources(r),
         energy_imbalance_w_per_m: r.energy_imbalance,
         energy_imbalance_relative: r.energy_imbalance_relative,
         probes: probes(r),

@@ -75,6 +75,7 @@ fn tiny_results() -> Results {
             boundary("(unnamed)", ConditionKind::Insulated, 0.0),
         ],
         heat_source: 0.0,
+        point_sources: Vec::new(),
         energy_imbalance: 1.0e-15,
         energy_imbalance_relative: 5.0e-17,
         t_min: Extreme {

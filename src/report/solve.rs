@@ -48,7 +48,11 @@ fn boundaries_table(o: &mut String, r: &Results) {
         ]);
     }
     t.add_row(vec![
-        "heat source".to_string(),
+        if r.point_sources.is_empty() {
+            "heat source".to_string()
+        } else {
+            "heat source (incl. point sources)".to_string()
+        },
         String::new(),
         String::new(),
         fixed(r.heat_source, 6),
@@ -62,7 +66,32 @@ fn boundaries_table(o: &mut String, r: &Results) {
     );
 }
 
+fn point_sources_table(o: &mut String, r: &Results) {
+    if r.point_sources.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        o,
+        "point sources (the temperature at a source's node depends on the mesh; use probes off it):"
+    );
+    let mut t = table(
+        &["point source", "x m", "y m", "power W/m", "node °C"],
+        "lrrrr",
+    );
+    for p in &r.point_sources {
+        t.add_row(vec![
+            p.name.clone(),
+            fixed(p.at[0], 6),
+            fixed(p.at[1], 6),
+            fixed(p.power, 6),
+            fixed(p.temperature, 4),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
 fn probes_and_lines(o: &mut String, r: &Results) {
+    point_sources_table(o, r);
     if !r.probes.is_empty() {
         let _ = writeln!(o, "probes:");
         let mut t = table(&["probe", "x m", "y m", "temperature °C", ""], "lrrrl");

@@ -113,6 +113,7 @@ fn solve_case_located(
             load: load.vector,
             fixed: load.fixed,
             cell_source: load.cell_source,
+            point_source: load.point_source,
             conductivity: base.conductivity.clone(),
             cell_conductivity: None,
         };

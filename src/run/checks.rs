@@ -67,10 +67,7 @@ pub fn self_checks(
         solver_residual(system, &r.temperature, &rows),
     ];
     let used = used_boundaries(mesh);
-    let has_source = section
-        .materials
-        .iter()
-        .any(|m| m.heat_source != 0.0 || m.source_field.is_some());
+    let has_source = section.has_source();
     let has_flux = used
         .iter()
         .any(|&b| matches!(section.boundaries[b].kind, BoundaryKind::Flux { flux } if flux != 0.0));
@@ -137,7 +134,12 @@ fn energy_balance(system: &System, r: &Results, rows: &RowTerms) -> Check {
     let floor = post::flows::balance_floor(system, &r.temperature);
     let scale = post::flows::balance_scale(&r.boundaries, r.heat_source, floor);
     let roundoff: f64 = rows.magnitude.iter().sum::<f64>()
-        + system.cell_source.iter().map(|q| q.abs()).sum::<f64>();
+        + system.cell_source.iter().map(|q| q.abs()).sum::<f64>()
+        + system
+            .point_source
+            .iter()
+            .map(|p| p.power.abs())
+            .sum::<f64>();
     let value = post::flows::relative_to(r.energy_imbalance, scale);
     let tolerance = BALANCE_ROUNDOFF_FACTOR * f64::EPSILON * roundoff / scale;
     let passed = within(value, tolerance);

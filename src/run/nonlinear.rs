@@ -155,7 +155,7 @@ fn nonlinear_checks(
         residual_check(system, &residual, &free, range, &r.temperature),
     ];
     let used = checks::used_boundaries(mesh);
-    let has_source = section.materials.iter().any(|m| m.heat_source != 0.0);
+    let has_source = section.has_source();
     let has_flux = used
         .iter()
         .any(|&b| matches!(section.boundaries[b].kind, BoundaryKind::Flux { flux } if flux != 0.0));
@@ -173,7 +173,12 @@ fn balance_check(system: &System, r: &Results, residual: &[f64], free: &[usize])
     let remainder: f64 = -free.iter().map(|&i| residual[i]).sum::<f64>();
     let floor = post::flows::balance_floor(system, &r.temperature);
     let scale = post::flows::balance_scale(&r.boundaries, r.heat_source, floor);
-    let mut roundoff: f64 = system.cell_source.iter().map(|q| q.abs()).sum();
+    let mut roundoff: f64 = system.cell_source.iter().map(|q| q.abs()).sum::<f64>()
+        + system
+            .point_source
+            .iter()
+            .map(|p| p.power.abs())
+            .sum::<f64>();
     for (row, f) in system.matrix.outer_iterator().zip(&system.load) {
         roundoff += f.abs();
         for (j, v) in row.iter() {
