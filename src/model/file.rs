@@ -106,8 +106,8 @@ pub struct MaterialFile {
     pub max_area: Option<f64>,
 }
 
-/// A ring (outline, region or hole) as written: `points` or `circle`, named by `edges` (one
-/// name per segment) or `boundary` (one name for all).
+/// A ring (outline, region or hole) as written: `points`, `circle`, `rectangle` or
+/// `points_file`, named by `edges` (one name per segment) or `boundary` (one name for all).
 #[derive(Debug, Clone, Deserialize, Serialize, Default, PartialEq, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RingFile {
@@ -124,6 +124,11 @@ pub struct RingFile {
     /// An axis-parallel rectangle instead of points.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rectangle: Option<RectangleFile>,
+    /// Path of a CSV file of the ring's points (columns `x,y` in the model's `length_unit` or
+    /// `x_m,y_m` in metres, optional `edge`), relative to the model file, instead of `points`;
+    /// read into `points` (and `edges`) when the model is loaded.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub points_file: Option<String>,
     /// Boundary name of each segment ("" = unnamed): names of `[boundaries]`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub edges: Option<Vec<String>>,

@@ -178,7 +178,7 @@ fn check_ring_keys(label: &str, r: &RingFile, ctx: &RingContext) -> Result<()> {
     match given.len() {
         0 => {
             return Err(Error::input(format!(
-                "{label}: missing `points`, `circle` or `rectangle`"
+                "{label}: missing `points`, `circle`, `rectangle` or `points_file`"
             )));
         }
         1 => {}

@@ -1,5 +1,5 @@
-//! Rings from other files: `[geojson]` (RFC 7946 features, `geojson.rs`) and `[drawing]` (DXF
-//! drawings, `dxf.rs`). Each importer turns its file into written rings ([`RingFile`]s with
+//! Rings from other files: `[geojson]` (RFC 7946 features, `geojson.rs`), `[drawing]` (DXF
+//! drawings, `dxf.rs`) and a ring's `points_file` (CSV point lists, `points.rs`). Each importer turns its file into written rings ([`RingFile`]s with
 //! points and one boundary name per real segment, in metres), exactly what the same rings
 //! typed in the model file would be; [`resolve_imports`] puts them into the model beside its
 //! inline `[outline]`, `[[regions]]` and `[[holes]]`, so every check of a written ring applies to
@@ -7,6 +7,7 @@
 
 mod dxf;
 mod geojson;
+mod points;
 
 use super::RingFile;
 use super::file::ModelFile;
@@ -15,7 +16,7 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-/// Largest GeoJSON or DXF file accepted, bytes (64 MiB), checked before the file is read.
+/// Largest GeoJSON, DXF or points CSV file accepted, bytes (64 MiB), checked before the file is read.
 pub const MAX_IMPORT_FILE_BYTES: u64 = 64 * 1024 * 1024;
 
 /// `[geojson]` as written.
@@ -92,10 +93,25 @@ struct ImportedRings {
 /// inline `[outline]`, its regions and holes before the inline ones (a later region wins
 /// where regions overlap, so inline regions lie on top). Does nothing for a model without
 /// either table.
+///
+/// Then reads every ring's `points_file` (CSV, see `points.rs`) into `points` (and `edges`).
+/// The files read are listed in [`ModelFile::imported`].
 pub fn resolve_imports(file: &mut ModelFile, dir: &Path) -> Result<()> {
     let mut imported = Imported::default();
+    let read_rings = import_rings(file, dir, &mut imported)?;
+    let read_points = points::resolve_points_files(file, dir, &mut imported)?;
+    if read_rings || read_points {
+        let slot = file.imported.get_or_insert_with(Imported::default);
+        slot.files.extend(imported.files);
+        slot.warnings.extend(imported.warnings);
+    }
+    Ok(())
+}
+
+/// The rings of `[geojson]` or `[drawing]` put into `file`; false for a model with neither.
+fn import_rings(file: &mut ModelFile, dir: &Path, imported: &mut Imported) -> Result<bool> {
     let rings = match (&file.geojson, &file.drawing) {
-        (None, None) => return Ok(()),
+        (None, None) => return Ok(false),
         (Some(_), Some(_)) => {
             return Err(Error::input(
                 "[geojson] and [drawing]: give at most one of them (the section's rings come from one file)",
@@ -109,7 +125,7 @@ pub fn resolve_imports(file: &mut ModelFile, dir: &Path) -> Result<()> {
             let text = String::from_utf8(bytes)
                 .map_err(|_| Error::input(format!("{label}: not UTF-8 text")))?;
             let prefix = printable(&g.file);
-            geojson::rings(&text, &prefix, file.outline.is_some(), &mut imported)?
+            geojson::rings(&text, &prefix, file.outline.is_some(), imported)?
         }
         (None, Some(d)) => {
             let path = dir.join(&d.file);
@@ -119,7 +135,7 @@ pub fn resolve_imports(file: &mut ModelFile, dir: &Path) -> Result<()> {
             // The model's max_area is in its length_unit²; the importers work in m².
             let f = super::units::unit_factor(file.length_unit.as_deref())?;
             let max_area = file.mesh.max_area.map(|a| a / f / f);
-            dxf::rings(&bytes, d, file.outline.is_some(), max_area, &mut imported)?
+            dxf::rings(&bytes, d, file.outline.is_some(), max_area, imported)?
         }
     };
     if let Some(o) = rings.outline {
@@ -127,13 +143,13 @@ pub fn resolve_imports(file: &mut ModelFile, dir: &Path) -> Result<()> {
     }
     file.regions.splice(0..0, rings.regions);
     file.holes.splice(0..0, rings.holes);
-    file.imported = Some(imported);
-    Ok(())
+    Ok(true)
 }
 
 /// Refuses a model whose `[geojson]` or `[drawing]` was not read (a model validated from memory
 /// rather than loaded from its file), and returns the import's warnings.
 pub(super) fn import_warnings(file: &ModelFile) -> Result<Vec<String>> {
+    points::check_resolved(file)?;
     if file.geojson.is_none() && file.drawing.is_none() {
         return Ok(Vec::new());
     }
