@@ -76,6 +76,18 @@ enum Command {
     /// Print the JSON Schema (draft 2020-12) of the model file (`model`) or of summary.json
     /// (`summary`, top level only) on stdout, for editors that read JSON Schema for TOML.
     Schema(SchemaArgs),
+    /// Write a commented starter model (`wall`, `pipes` or `tunnel`) that solves as written.
+    New(NewArgs),
+}
+
+#[derive(Args)]
+struct NewArgs {
+    /// The starter model: wall, pipes or tunnel.
+    #[arg(long)]
+    template: String,
+    /// Write it to this new file (an existing file is never replaced); default: stdout.
+    #[arg(long)]
+    out: Option<PathBuf>,
 }
 
 #[derive(Args)]
@@ -697,6 +709,30 @@ fn sweep_failures(s: &output::SweepSummary) -> xsheat::Result<()> {
     )))
 }
 
+fn new_model(a: &NewArgs, con: &Console) -> xsheat::Result<()> {
+    let text = xsheat::model::templates::template(&a.template)?;
+    match &a.out {
+        None => print!("{text}"),
+        Some(path) => {
+            if std::fs::symlink_metadata(path).is_ok() {
+                return Err(Error::input(format!(
+                    "new --out {}: the file exists; `new` writes a new file only (choose another name or remove it)",
+                    path.display()
+                )));
+            }
+            let target = output::check_out_file(path, &[])?;
+            output::write_file_atomic(&target, text.as_bytes())?;
+            con.result(&format!(
+                "wrote {} (template {}); solve it with: xsheat solve {} --out DIR",
+                path.display(),
+                a.template,
+                path.display()
+            ));
+        }
+    }
+    Ok(())
+}
+
 fn schema(a: &SchemaArgs) -> xsheat::Result<()> {
     print!("{}", output::schema_text(&a.kind)?);
     Ok(())
@@ -722,6 +758,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
         Command::Plot(a) => plot(a, &con),
         Command::Sweep(a) => sweep(a, &con),
         Command::Schema(a) => schema(&a),
+        Command::New(a) => new_model(&a, &con),
     }
 }
 

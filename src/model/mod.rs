@@ -20,6 +20,7 @@ mod ring;
 mod schema;
 mod shapes;
 mod suggest;
+pub mod templates;
 mod units;
 mod validate;
 
