@@ -100,19 +100,19 @@ fn absurd_values_are_refused_naming_the_key() {
             "temperature-huge",
             replace("temperature = 10.0", "temperature = 1e200"),
             vec![],
-            &["boundaries.base: temperature", "1e4"],
+            &["boundaries.base.temperature", "1e4"],
         ),
         (
             "ambient-huge",
             replace("ambient = 25.0", "ambient = 20000.0"),
             vec![],
-            &["boundaries.top: ambient", "1e4"],
+            &["boundaries.top.ambient", "1e4"],
         ),
         (
             "heat-source-huge",
             replace("heat_source = 0.0", "heat_source = 1e300"),
             vec![],
-            &["materials.concrete: heat_source", "1e10"],
+            &["materials.concrete.heat_source", "1e10"],
         ),
         (
             "flux-huge",
