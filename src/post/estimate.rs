@@ -28,8 +28,11 @@ use crate::fem::{Conductivity, System, TriangleGeometry};
 use crate::mesh::Mesh;
 use crate::model::Section;
 use crate::post::Results;
+use crate::post::field::CELL_CHUNK;
 use nalgebra::Vector2;
+use rayon::prelude::*;
 use serde::Serialize;
+use std::collections::BTreeMap;
 
 /// The ZZ error estimate of one solved field.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -63,39 +66,66 @@ pub fn recover_gradient(mesh: &Mesh, cell_gradient: &[[f64; 2]]) -> Result<Vec<[
         )));
     }
     let n = mesh.nodes.len();
-    // Per node: (material, Σ A·g, Σ A), in order of first appearance (deterministic).
-    let mut acc: Vec<Vec<(usize, Vector2<f64>, f64)>> = vec![Vec::new(); n];
+    if let Some((t, v)) = mesh
+        .triangles
+        .iter()
+        .enumerate()
+        .find_map(|(t, ids)| ids.iter().find(|&&v| v >= n).map(|&v| (t, v)))
+    {
+        return Err(Error::run(format!(
+            "internal error: triangle {t} refers to node {v} of {n}"
+        )));
+    }
+    // Per node: the first material met (in triangle order) and its Σ A·g, Σ A in flat arrays;
+    // further materials (nodes on an interface, a few per cent) in a side table in order of
+    // first appearance. Every sum is formed in triangle order.
+    const NONE: usize = usize::MAX;
+    let mut first: Vec<(usize, Vector2<f64>, f64)> = vec![(NONE, Vector2::zeros(), 0.0); n];
+    let mut more: BTreeMap<usize, Vec<(usize, Vector2<f64>, f64)>> = BTreeMap::new();
     for (t, ids) in mesh.triangles.iter().enumerate() {
         let a = mesh.triangle_area(t).abs();
         let g = Vector2::from(cell_gradient[t]);
         let m = mesh.material[t];
         for &v in ids {
-            if v >= n {
-                return Err(Error::run(format!(
-                    "internal error: triangle {t} refers to node {v} of {n}"
-                )));
+            let e = &mut first[v];
+            if e.0 == NONE || e.0 == m {
+                e.0 = m;
+                e.1 += g * a;
+                e.2 += a;
+                continue;
             }
-            match acc[v].iter_mut().find(|e| e.0 == m) {
+            let list = more.entry(v).or_default();
+            match list.iter_mut().find(|e| e.0 == m) {
                 Some(e) => {
                     e.1 += g * a;
                     e.2 += a;
                 }
-                None => acc[v].push((m, g * a, a)),
+                None => list.push((m, g * a, a)),
             }
         }
     }
-    let mut out = Vec::with_capacity(nt);
-    for (t, ids) in mesh.triangles.iter().enumerate() {
-        let m = mesh.material[t];
-        // The triangle itself contributed, so the entry exists and its weight is positive
-        // unless the triangle is degenerate; then fall back to the triangle's own value.
-        let corner = |v: usize| match acc[v].iter().find(|e| e.0 == m) {
-            Some(e) if e.2 > 0.0 => (e.1 / e.2).into(),
-            _ => cell_gradient[t],
-        };
-        out.push(ids.map(corner));
-    }
-    Ok(out)
+    // Corner values per triangle: independent, so in parallel.
+    Ok((0..mesh.triangles.len())
+        .into_par_iter()
+        .with_min_len(CELL_CHUNK)
+        .map(|t| {
+            let m = mesh.material[t];
+            // The triangle itself contributed, so the entry exists and its weight is positive
+            // unless the triangle is degenerate; then fall back to the triangle's own value.
+            let corner = |v: usize| {
+                let e = if first[v].0 == m {
+                    Some(&first[v])
+                } else {
+                    more.get(&v).and_then(|l| l.iter().find(|e| e.0 == m))
+                };
+                match e {
+                    Some(e) if e.2 > 0.0 => (e.1 / e.2).into(),
+                    _ => cell_gradient[t],
+                }
+            };
+            mesh.triangles[t].map(corner)
+        })
+        .collect())
 }
 
 /// Zienkiewicz–Zhu estimate of the energy-norm error of a solved field (see the module doc for
@@ -125,25 +155,34 @@ pub fn zz_estimate(
             *s = true;
         }
     }
+    if let Some(t) = (0..nt).find(|&t| system.conductivity.get(mesh.material[t]).is_none()) {
+        return Err(Error::run(format!(
+            "internal error: triangle {t} has material id {} without a conductivity",
+            mesh.material[t]
+        )));
+    }
+    // (η_T², energy of T) per triangle in parallel; the sums in triangle order.
+    let parts: Vec<(f64, f64)> = (0..nt)
+        .into_par_iter()
+        .with_min_len(CELL_CHUNK)
+        .map(|t| {
+            if mesh.triangles[t].iter().any(|&v| at_source[v]) {
+                return (0.0, 0.0);
+            }
+            let k = system.triangle_conductivity(mesh, t);
+            let area = TriangleGeometry::of(mesh, t).area.abs();
+            let g = Vector2::from(results.cell_gradient[t]);
+            (
+                indicator_squared(k, &recovered[t], g, area),
+                area * k.energy_density(g),
+            )
+        })
+        .collect();
     let mut indicator = Vec::with_capacity(nt);
     let mut eta2 = 0.0;
     let mut norm2 = 0.0;
-    for (t, corners) in recovered.iter().enumerate() {
-        if system.conductivity.get(mesh.material[t]).is_none() {
-            return Err(Error::run(format!(
-                "internal error: triangle {t} has material id {} without a conductivity",
-                mesh.material[t]
-            )));
-        }
-        if mesh.triangles[t].iter().any(|&v| at_source[v]) {
-            indicator.push(0.0);
-            continue;
-        }
-        let k = system.triangle_conductivity(mesh, t);
-        let area = TriangleGeometry::of(mesh, t).area.abs();
-        let g = Vector2::from(results.cell_gradient[t]);
-        let et2 = indicator_squared(k, corners, g, area);
-        norm2 += area * k.energy_density(g);
+    for &(et2, energy) in &parts {
+        norm2 += energy;
         eta2 += et2;
         indicator.push(et2.sqrt());
     }

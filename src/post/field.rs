@@ -5,6 +5,12 @@ use super::Extreme;
 use crate::fem::{Conductivity, TriangleGeometry};
 use crate::mesh::Mesh;
 use nalgebra::{Vector2, Vector3};
+use rayon::prelude::*;
+
+/// Least number of triangles one parallel task of the post-processing takes. Each triangle's
+/// values are computed alone and every sum over triangles is formed afterwards in triangle
+/// order, so the split changes no bit of any result (see DEVELOPERS.md, determinism).
+pub const CELL_CHUNK: usize = 4_096;
 
 /// Gradients and heat fluxes of a solved field.
 #[derive(Debug, Clone, PartialEq)]
@@ -34,27 +40,37 @@ pub fn gradients_and_fluxes(
 /// (triangle index → tensor), for a conductivity that varies with temperature.
 pub fn gradients_and_fluxes_with(
     mesh: &Mesh,
-    conductivity: &impl Fn(usize) -> Conductivity,
+    conductivity: &(impl Fn(usize) -> Conductivity + Sync),
     temperature: &[f64],
 ) -> Field {
     let (n, nt) = (mesh.nodes.len(), mesh.triangles.len());
-    let mut cell_gradient = Vec::with_capacity(nt);
-    let mut cell_flux = Vec::with_capacity(nt);
-    // Per node: Σ A·∇T, Σ A·q, Σ A.
+    // Per triangle (independent, so computed in parallel): ∇T and q.
+    let mut cell_gradient = vec![[0.0; 2]; nt];
+    let mut cell_flux = vec![[0.0; 2]; nt];
+    cell_gradient
+        .par_iter_mut()
+        .zip(cell_flux.par_iter_mut())
+        .enumerate()
+        .with_min_len(CELL_CHUNK)
+        .for_each(|(t, (g_out, q_out))| {
+            let g = TriangleGeometry::of(mesh, t);
+            let grad = g.gradient(Vector3::from(mesh.triangles[t].map(|v| temperature[v])));
+            *g_out = grad.into();
+            *q_out = conductivity(t).flux(grad).into();
+        });
+    // Per node: Σ A·∇T, Σ A·q, Σ A, summed in triangle order (the same sums whatever the
+    // thread count).
     let mut sum_gradient = vec![Vector2::zeros(); n];
     let mut sum_flux = vec![Vector2::zeros(); n];
     let mut weight = vec![0.0f64; n];
     for (t, ids) in mesh.triangles.iter().enumerate() {
-        let g = TriangleGeometry::of(mesh, t);
-        let grad = g.gradient(Vector3::from(ids.map(|v| temperature[v])));
-        let q = conductivity(t).flux(grad);
+        let area = TriangleGeometry::of(mesh, t).area;
+        let (grad, q) = (Vector2::from(cell_gradient[t]), Vector2::from(cell_flux[t]));
         for &v in ids {
-            sum_gradient[v] += grad * g.area;
-            sum_flux[v] += q * g.area;
-            weight[v] += g.area;
+            sum_gradient[v] += grad * area;
+            sum_flux[v] += q * area;
+            weight[v] += area;
         }
-        cell_gradient.push(grad.into());
-        cell_flux.push(q.into());
     }
     let mut nodal_gradient = Vec::with_capacity(n);
     let mut nodal_flux = Vec::with_capacity(n);

@@ -1,5 +1,6 @@
-//! The direct solver: sparse Cholesky factorisation by faer (sequential; AMD or a nested
-//! dissection of our own as the fill-reducing [`Ordering`]), and
+//! The direct solver: sparse Cholesky factorisation by faer (supernodal; its dense kernels on
+//! the rayon pool for large matrices; AMD or a nested dissection of our own as the
+//! fill-reducing [`Ordering`]), and
 //! the one conversion of a matrix from sprs storage into faer's ([`to_faer`]).
 
 use super::LinearSolver;
@@ -32,7 +33,8 @@ pub fn to_faer(a: &CsMat<f64>) -> Result<SparseColMat<usize, f64>> {
     Ok(SparseColMat::new(symbolic, a.data().to_vec()))
 }
 
-/// Sparse Cholesky factorisation `A = L·Lᵀ` (faer, supernodal), sequential.
+/// Sparse Cholesky factorisation `A = L·Lᵀ` (faer, supernodal; numeric phase on the rayon
+/// pool from [`PARALLEL_FACTOR_FROM`] unknowns, bit-identical to the sequential one).
 #[derive(Debug)]
 pub struct SparseCholesky {
     symbolic: SymbolicCholesky<usize>,
@@ -99,8 +101,9 @@ impl SparseCholesky {
             .map_err(|_| fail("out of memory for the factor"))?;
         values.resize(symbolic.len_val(), 0.0);
         let params: Spec<LltParams, f64> = Default::default();
+        let par = numeric_parallelism(n);
         let mut buffer =
-            MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(Par::Seq, params))
+            MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(par, params))
                 .map_err(|_| fail("out of memory for the workspace"))?;
         symbolic
             .factorize_numeric_llt(
@@ -108,7 +111,7 @@ impl SparseCholesky {
                 matrix.as_ref(),
                 Side::Lower,
                 Default::default(),
-                Par::Seq,
+                par,
                 MemStack::new(&mut buffer),
                 params,
             )
@@ -119,6 +122,24 @@ impl SparseCholesky {
     /// Stored entries of the factor L (its fill, the measure an ordering minimises).
     pub fn factor_entries(&self) -> usize {
         self.values.len()
+    }
+}
+
+/// Unknowns from which the numeric factorisation uses the threads of the current rayon pool.
+pub const PARALLEL_FACTOR_FROM: usize = 50_000;
+
+/// The parallelism of faer's numeric factorisation for a matrix of order `n`: the threads of
+/// the current rayon pool (`--threads`, `RAYON_NUM_THREADS`) from [`PARALLEL_FACTOR_FROM`]
+/// unknowns on, else sequential. faer splits only the dense kernels of each supernode across
+/// threads, by blocks of the output, so every entry of the factor is formed by the same
+/// operations in the same order whatever the thread count: the factor is bit for bit the same
+/// (tested in `solve::tests` and by whole result sets in `tests/threads.rs`).
+fn numeric_parallelism(n: usize) -> Par {
+    let threads = rayon::current_num_threads();
+    if n >= PARALLEL_FACTOR_FROM && threads > 1 {
+        Par::rayon(threads)
+    } else {
+        Par::Seq
     }
 }
 

@@ -14,9 +14,10 @@
 //!
 //! The pipeline orders the factorisation by a geometric nested dissection of the mesh
 //! ([`ordering`], [`Factorized::with_coordinates`]); without coordinates faer's AMD is used.
-//! The numeric factorisation runs sequentially (`faer::Par::Seq`) in a fixed order and the
-//! ordering does not depend on the thread count, so repeated runs give byte-identical
-//! temperatures. After every solve the relative residual of the reduced system
+//! The numeric factorisation of large matrices runs on the rayon pool (faer splits each
+//! supernode's dense kernels by output blocks, so the factor is bit for bit the one of a
+//! sequential run) and the ordering does not depend on the thread count, so repeated runs and
+//! runs on any number of threads give byte-identical temperatures. After every solve the relative residual of the reduced system
 //! is recomputed as a self-check.
 
 pub mod cg;

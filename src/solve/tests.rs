@@ -176,3 +176,30 @@ fn every_ordering_gives_the_same_temperatures() {
     // Coordinates of the wrong length are an internal error.
     assert!(Factorized::with_coordinates(&system, &mesh.nodes[1..]).is_err());
 }
+
+#[test]
+fn parallel_factorisation_is_bit_identical_to_one_thread() {
+    // 301² nodes: above PARALLEL_FACTOR_FROM, so the 2-thread pool factorises in parallel.
+    let (section, mesh) = plate(300);
+    let system = assemble(&section, &mesh).unwrap();
+    assert!(system.node_count() > cholesky::PARALLEL_FACTOR_FROM);
+    let in_pool = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| {
+                Factorized::with_coordinates(&system, &mesh.nodes)
+                    .unwrap()
+                    .solve(&system.load, &system.fixed)
+                    .unwrap()
+            })
+    };
+    let (one, two) = (in_pool(1), in_pool(2));
+    let bits = |s: &Solution| -> Vec<u64> { s.temperature.iter().map(|v| v.to_bits()).collect() };
+    assert_eq!(bits(&one), bits(&two));
+    assert_eq!(
+        one.residual_relative.to_bits(),
+        two.residual_relative.to_bits()
+    );
+}
