@@ -79,13 +79,25 @@ pub fn solve_files_with(sv: &Solved, options: &SolveFileOptions) -> Result<Outpu
     let started = std::time::Instant::now();
     let s = sv.section();
     let mut set = OutputSet::new();
-    set.add("field.vtu", solve_field_vtu(sv, &options.vtk)?);
-    set.add(
-        "boundary.vtp",
-        output::boundary_vtp(s, &sv.mesh, &sv.results, &options.vtk)?,
+    // The three large files are encoded side by side (each one's bytes depend on it alone).
+    let (field, (boundary, nodes)) = rayon::join(
+        || solve_field_vtu(sv, &options.vtk),
+        || {
+            rayon::join(
+                || output::boundary_vtp(s, &sv.mesh, &sv.results, &options.vtk),
+                || {
+                    options
+                        .nodes_csv
+                        .then(|| output::nodes_csv(&sv.mesh, &sv.results))
+                        .transpose()
+                },
+            )
+        },
     );
-    if options.nodes_csv {
-        set.add("nodes.csv", output::nodes_csv(&sv.mesh, &sv.results)?);
+    set.add("field.vtu", field?);
+    set.add("boundary.vtp", boundary?);
+    if let Some(nodes) = nodes? {
+        set.add("nodes.csv", nodes);
     }
     set.add("probes.csv", output::probes_csv(&sv.results)?);
     set.add("boundaries.csv", output::boundaries_csv(&sv.results)?);

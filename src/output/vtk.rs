@@ -8,11 +8,14 @@
 //! `[1, n, 0, compressed size]` (UInt64) and the compressed bytes as two base64 streams, the
 //! layout of `vtkZLibDataCompressor`. vtkio 0.6 reads this layout back (its reader decodes only
 //! the first zlib stream of an array, hence one block per array); it does not read raw appended
-//! data (binary bytes such as `<` break its XML parser), so raw is not offered.
+//! data (binary bytes such as `<` break its XML parser), so raw is not offered. The arrays
+//! of a file are encoded in parallel, each on its own, and laid out in their fixed order, so
+//! the bytes do not depend on the thread count.
 
 use crate::error::{Error, Result};
 use crate::mesh::Mesh;
 use crate::post::Results;
+use rayon::prelude::*;
 use std::fmt::Write as _;
 use std::io::Write as _;
 
@@ -196,20 +199,75 @@ fn xml_attr(text: &str) -> String {
     s
 }
 
-/// Collects the XML of the arrays and their appended base64 payload.
-struct Appender {
-    compress: bool,
-    xml: String,
-    payload: Vec<u8>,
+/// A piece of the XML head: text, or an array whose offset is known once every array before
+/// it is encoded.
+enum Part<'a> {
+    Text(String),
+    Array {
+        indent: &'static str,
+        name: String,
+        size: String,
+        values: VtkValues<'a>,
+    },
 }
 
-impl Appender {
+/// Collects the XML of the arrays; [`Appender::finish`] encodes their appended payload, every
+/// array on its own (in parallel: each array's bytes depend on it alone, so the file is the
+/// same whatever the thread count) and writes the file.
+struct Appender<'a> {
+    compress: bool,
+    parts: Vec<Part<'a>>,
+}
+
+/// One array's appended payload: base64 of its byte count and bytes, or with compression of
+/// the zlib block header and the block.
+fn encode_array(name: &str, values: &VtkValues, compress: bool) -> Result<Vec<u8>> {
+    let bytes = values.le_bytes();
+    let n = bytes.len() as u64;
+    let mut out = Vec::new();
+    if compress {
+        let mut z = flate2::write::ZlibEncoder::new(
+            Vec::with_capacity(bytes.len() / 2),
+            flate2::Compression::new(VTK_ZLIB_LEVEL),
+        );
+        let packed = z
+            .write_all(&bytes)
+            .and_then(|()| z.finish())
+            .map_err(|e| Error::run(format!("cannot compress VTK array {name}: {e}")))?;
+        let header: Vec<u8> = [1, n, 0, packed.len() as u64]
+            .iter()
+            .flat_map(|h| h.to_le_bytes())
+            .collect();
+        base64_into(&mut out, &header);
+        base64_into(&mut out, &packed);
+    } else {
+        let mut all = Vec::with_capacity(8 + bytes.len());
+        all.extend_from_slice(&n.to_le_bytes());
+        all.extend_from_slice(&bytes);
+        drop(bytes);
+        base64_into(&mut out, &all);
+    }
+    Ok(out)
+}
+
+impl<'a> Appender<'a> {
+    fn new(compress: bool, head: String) -> Self {
+        Appender {
+            compress,
+            parts: vec![Part::Text(head)],
+        }
+    }
+
+    fn text(&mut self, text: impl Into<String>) {
+        self.parts.push(Part::Text(text.into()));
+    }
+
     fn array(
         &mut self,
-        indent: &str,
+        indent: &'static str,
         name: &str,
         components: usize,
-        values: VtkValues,
+        values: VtkValues<'a>,
     ) -> Result<()> {
         let size = format!(r#"NumberOfComponents="{components}""#);
         self.array_with(indent, name, &size, values)
@@ -219,50 +277,71 @@ impl Appender {
     /// cell data, `NumberOfTuples="…"` for field data) and its payload.
     fn array_with(
         &mut self,
-        indent: &str,
+        indent: &'static str,
         name: &str,
         size: &str,
-        values: VtkValues,
+        values: VtkValues<'a>,
     ) -> Result<()> {
-        let _ = writeln!(
-            self.xml,
-            r#"{indent}<DataArray type="{}" Name="{}" {size} format="appended" offset="{}"/>"#,
-            values.type_name(),
-            xml_attr(name),
-            self.payload.len()
-        );
-        let bytes = values.le_bytes();
-        let n = bytes.len() as u64;
-        if self.compress {
-            let mut z = flate2::write::ZlibEncoder::new(
-                Vec::with_capacity(bytes.len() / 2),
-                flate2::Compression::new(VTK_ZLIB_LEVEL),
-            );
-            let packed = z
-                .write_all(&bytes)
-                .and_then(|()| z.finish())
-                .map_err(|e| Error::run(format!("cannot compress VTK array {name}: {e}")))?;
-            let header: Vec<u8> = [1, n, 0, packed.len() as u64]
-                .iter()
-                .flat_map(|h| h.to_le_bytes())
-                .collect();
-            base64_into(&mut self.payload, &header);
-            base64_into(&mut self.payload, &packed);
-        } else {
-            let mut all = Vec::with_capacity(8 + bytes.len());
-            all.extend_from_slice(&n.to_le_bytes());
-            all.extend_from_slice(&bytes);
-            base64_into(&mut self.payload, &all);
-        }
+        self.parts.push(Part::Array {
+            indent,
+            name: name.to_string(),
+            size: size.to_string(),
+            values,
+        });
         Ok(())
     }
 
+    /// The file: the XML head with every array's offset, `tail` (which opens the appended
+    /// data), the payload, and the closing tags.
+    fn finish(self, tail: &str) -> Result<Vec<u8>> {
+        let compress = self.compress;
+        let payloads: Vec<Vec<u8>> = self
+            .parts
+            .par_iter()
+            .filter_map(|p| match p {
+                Part::Array { name, values, .. } => Some(encode_array(name, values, compress)),
+                Part::Text(_) => None,
+            })
+            .collect::<Result<_>>()?;
+        let mut xml = String::new();
+        let mut offset = 0usize;
+        let mut next = payloads.iter();
+        for p in &self.parts {
+            match p {
+                Part::Text(t) => xml.push_str(t),
+                Part::Array {
+                    indent,
+                    name,
+                    size,
+                    values,
+                } => {
+                    let _ = writeln!(
+                        xml,
+                        r#"{indent}<DataArray type="{}" Name="{}" {size} format="appended" offset="{offset}"/>"#,
+                        values.type_name(),
+                        xml_attr(name),
+                    );
+                    offset += next.next().map_or(0, Vec::len);
+                }
+            }
+        }
+        xml.push_str(tail);
+        const CLOSE: &[u8] = b"\n  </AppendedData>\n</VTKFile>\n";
+        let mut out = Vec::with_capacity(xml.len() + offset + CLOSE.len());
+        out.extend_from_slice(xml.as_bytes());
+        for p in &payloads {
+            out.extend_from_slice(p);
+        }
+        out.extend_from_slice(CLOSE);
+        Ok(out)
+    }
+
     /// `<FieldData>` with one array per entry (tuples = values / components), when any.
-    fn field(&mut self, arrays: &[VtkArray]) -> Result<()> {
+    fn field(&mut self, arrays: &[VtkArray<'a>]) -> Result<()> {
         if arrays.is_empty() {
             return Ok(());
         }
-        self.xml.push_str("    <FieldData>\n");
+        self.text("    <FieldData>\n");
         for a in arrays {
             if a.components != 1 {
                 return Err(Error::run(format!(
@@ -273,12 +352,12 @@ impl Appender {
             let size = format!(r#"NumberOfTuples="{}""#, a.values.len());
             self.array_with("      ", a.name, &size, a.values)?;
         }
-        self.xml.push_str("    </FieldData>\n");
+        self.text("    </FieldData>\n");
         Ok(())
     }
 
-    fn data(&mut self, tag: &str, arrays: &[VtkArray], tuples: usize) -> Result<()> {
-        let _ = writeln!(self.xml, "      <{tag}>");
+    fn data(&mut self, tag: &str, arrays: &[VtkArray<'a>], tuples: usize) -> Result<()> {
+        self.text(format!("      <{tag}>\n"));
         for a in arrays {
             if a.components == 0 || a.values.len() != a.components * tuples {
                 return Err(Error::run(format!(
@@ -290,7 +369,7 @@ impl Appender {
             }
             self.array("        ", a.name, a.components, a.values)?;
         }
-        let _ = writeln!(self.xml, "      </{tag}>");
+        self.text(format!("      </{tag}>\n"));
         Ok(())
     }
 }
@@ -320,25 +399,23 @@ pub fn encode_vtu(piece: &VtuPiece, options: &VtkOptions) -> Result<Vec<u8>> {
     } else {
         ""
     };
-    let mut a = Appender {
-        compress: options.compress,
-        xml: format!(
+    let mut a = Appender::new(
+        options.compress,
+        format!(
             "<?xml version=\"1.0\"?>\n<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" \
-             byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  \
-             <UnstructuredGrid>\n"
+         byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  \
+         <UnstructuredGrid>\n"
         ),
-        payload: Vec::new(),
-    };
-    a.field(&piece.field_data)?;
-    let _ = writeln!(
-        a.xml,
-        "    <Piece NumberOfPoints=\"{points}\" NumberOfCells=\"{cells}\">"
     );
+    a.field(&piece.field_data)?;
+    a.text(format!(
+        "    <Piece NumberOfPoints=\"{points}\" NumberOfCells=\"{cells}\">\n"
+    ));
     a.data("PointData", &piece.point_data, points)?;
     a.data("CellData", &piece.cell_data, cells)?;
-    a.xml.push_str("      <Points>\n");
+    a.text("      <Points>\n");
     a.array("        ", "Points", 3, VtkValues::F64(piece.points))?;
-    a.xml.push_str("      </Points>\n      <Cells>\n");
+    a.text("      </Points>\n      <Cells>\n");
     let offsets: Vec<i64> = (1..=cells as i64).map(|i| i * per as i64).collect();
     let types = vec![piece.cell_type; cells];
     a.array(
@@ -349,14 +426,7 @@ pub fn encode_vtu(piece: &VtuPiece, options: &VtkOptions) -> Result<Vec<u8>> {
     )?;
     a.array("        ", "offsets", 1, VtkValues::I64(&offsets))?;
     a.array("        ", "types", 1, VtkValues::U8(&types))?;
-    a.xml.push_str(
-        "      </Cells>\n    </Piece>\n  </UnstructuredGrid>\n  <AppendedData encoding=\"base64\">\n   _",
-    );
-    let mut out = a.xml.into_bytes();
-    out.reserve(a.payload.len() + 32);
-    out.extend_from_slice(&a.payload);
-    out.extend_from_slice(b"\n  </AppendedData>\n</VTKFile>\n");
-    Ok(out)
+    a.finish("      </Cells>\n    </Piece>\n  </UnstructuredGrid>\n  <AppendedData encoding=\"base64\">\n   _")
 }
 
 /// Line cells (two points each) with point, cell and field data, as VTK XML PolyData
@@ -398,25 +468,23 @@ pub fn encode_vtp_lines(piece: &VtpLines, options: &VtkOptions) -> Result<Vec<u8
     } else {
         ""
     };
-    let mut a = Appender {
-        compress: options.compress,
-        xml: format!(
+    let mut a = Appender::new(
+        options.compress,
+        format!(
             "<?xml version=\"1.0\"?>\n<VTKFile type=\"PolyData\" version=\"1.0\" \
-             byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  <PolyData>\n"
+         byte_order=\"LittleEndian\" header_type=\"UInt64\"{compressor}>\n  <PolyData>\n"
         ),
-        payload: Vec::new(),
-    };
-    a.field(&piece.field_data)?;
-    let _ = writeln!(
-        a.xml,
-        "    <Piece NumberOfPoints=\"{points}\" NumberOfVerts=\"0\" NumberOfLines=\"{lines}\" \
-         NumberOfStrips=\"0\" NumberOfPolys=\"0\">"
     );
+    a.field(&piece.field_data)?;
+    a.text(format!(
+        "    <Piece NumberOfPoints=\"{points}\" NumberOfVerts=\"0\" NumberOfLines=\"{lines}\" \
+         NumberOfStrips=\"0\" NumberOfPolys=\"0\">\n"
+    ));
     a.data("PointData", &piece.point_data, points)?;
     a.data("CellData", &piece.cell_data, lines)?;
-    a.xml.push_str("      <Points>\n");
+    a.text("      <Points>\n");
     a.array("        ", "Points", 3, VtkValues::F64(piece.points))?;
-    a.xml.push_str("      </Points>\n      <Lines>\n");
+    a.text("      </Points>\n      <Lines>\n");
     let offsets: Vec<i64> = (1..=lines as i64).map(|i| 2 * i).collect();
     a.array(
         "        ",
@@ -425,14 +493,9 @@ pub fn encode_vtp_lines(piece: &VtpLines, options: &VtkOptions) -> Result<Vec<u8
         VtkValues::I64(piece.connectivity),
     )?;
     a.array("        ", "offsets", 1, VtkValues::I64(&offsets))?;
-    a.xml.push_str(
+    a.finish(
         "      </Lines>\n    </Piece>\n  </PolyData>\n  <AppendedData encoding=\"base64\">\n   _",
-    );
-    let mut out = a.xml.into_bytes();
-    out.reserve(a.payload.len() + 32);
-    out.extend_from_slice(&a.payload);
-    out.extend_from_slice(b"\n  </AppendedData>\n</VTKFile>\n");
-    Ok(out)
+    )
 }
 
 // ---------------------------------------------------------------------------------------------
