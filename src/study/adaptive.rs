@@ -161,6 +161,8 @@ pub fn solve_adaptive(prepared: Prepared, opts: &MeshOptions, target: f64) -> Re
         if current.error_estimate.relative <= target {
             break None;
         }
+        // A cycle: marking, refinement, extraction, assembly, solve, post-processing.
+        crate::progress::stage(&format!("adaptive cycle {}", history.len()));
         if history.len() >= MAX_CYCLES {
             break Some(format!("{MAX_CYCLES} cycles done"));
         }
