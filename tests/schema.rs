@@ -34,11 +34,11 @@ fn errors(v: &jsonschema::Validator, instance: &Value) -> Vec<String> {
         .collect()
 }
 
-/// The model files of the repository: demos under geometry/ (sweep plans excepted) and the
-/// test fixtures.
+/// The model files of the repository: demos under geometry/ (sweep plans excepted), the
+/// starter models of `xsheat new --template` and the test fixtures.
 fn model_files() -> Vec<PathBuf> {
     let mut files = Vec::new();
-    for dir in ["geometry", "tests/fixtures"] {
+    for dir in ["geometry", "assets/templates", "tests/fixtures"] {
         for entry in std::fs::read_dir(repo_file(dir)).expect("read dir") {
             let path = entry.expect("entry").path();
             let name = path.to_string_lossy().to_string();
