@@ -193,6 +193,39 @@ fn field_vtu_holds_both_node_sets_and_summary_reports_the_contact() {
 }
 
 #[test]
+fn console_check_and_report_page_show_the_contact_with_its_flow() {
+    let text = wall(&K_BRICK.to_string(), "");
+    let (run, d, out) = solve_text(&text, &[]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // Composite wall in series (q_exact, Incropera ch. 3): the flow across the contact is
+    // q·HEIGHT from brick to foam, and the console and report.html print it.
+    let flow = q_exact() * HEIGHT;
+    let row = run
+        .stdout
+        .lines()
+        .find(|l| l.trim_start().starts_with("brick/foam"))
+        .unwrap_or_else(|| panic!("no contact row:\n{}", run.stdout));
+    let printed: f64 = row.split_whitespace().last().unwrap().parse().unwrap();
+    assert!((printed - flow).abs() < 1e-6, "{row}");
+    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(html.contains(r#"id="contacts""#));
+    assert!(
+        html.contains(&format!("{flow:.6}")),
+        "flow {flow:.6} not on the page"
+    );
+    let model = write(d.path(), "check.toml", &text);
+    let check = xsheat(["check".as_ref(), model.as_os_str()]);
+    assert_eq!(check.code, 0, "{}", check.stderr);
+    assert!(
+        check
+            .stdout
+            .contains("contact brick/foam: resistance 5.0000e-1 m²·K/W"),
+        "{}",
+        check.stdout
+    );
+}
+
+#[test]
 fn a_contact_between_materials_that_never_meet_is_a_warning_naming_it() {
     let extra = "[materials.steel]\nconductivity = 50.0\n[[contacts]]\nbetween = [\"steel\", \"brick\"]\nresistance = 0.1\n";
     let prepared = run::prepare_model(parse(&wall(&K_BRICK.to_string(), extra)).unwrap()).unwrap();

@@ -38,6 +38,7 @@ pub fn report_html(sv: &Solved, picture: Option<&str>, files: &[String]) -> Vec<
         coupling_section(&mut page, c);
     }
     point_sources_section(&mut page, r);
+    contacts_section(&mut page, sv);
     probes_section(&mut page, s, r);
     cases_section(&mut page, sv);
     accuracy_section(&mut page, sv);
@@ -479,6 +480,37 @@ fn point_sources_section(page: &mut Page, r: &Results) {
             fixed(p.at[1], 4),
             fixed(p.power, 4),
             fixed(p.temperature, 4),
+        ]);
+    }
+    page.table(&t);
+}
+
+fn contacts_section(page: &mut Page, sv: &Solved) {
+    let s = sv.section();
+    if s.contacts.is_empty() {
+        return;
+    }
+    page.section("contacts", "Contact resistances");
+    page.p(
+        "Zero-thickness interfaces where two materials meet, each a conductance 1/R per unit length between duplicated nodes. The jump is T_a − T_b (length-weighted mean); the heat flow is from the a side to the b side, from the same interface elements the solved system holds.",
+    );
+    let mut t = HtmlTable::new(
+        &[
+            "contact a/b",
+            "length m",
+            "R m²·K/W",
+            "mean jump K",
+            "heat flow W/m",
+        ],
+        "lrrrr",
+    );
+    for c in crate::post::contacts::contact_flows(s, &sv.mesh, &sv.results.temperature) {
+        t.row(vec![
+            format!("{}/{}", c.between[0], c.between[1]),
+            fixed(c.interface_length_m, 6),
+            sci(c.resistance_m2k_per_w, 4),
+            fixed(c.mean_temperature_jump_k, 4),
+            fixed(c.heat_flow_a_to_b_w_per_m, 6),
         ]);
     }
     page.table(&t);

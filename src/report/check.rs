@@ -211,6 +211,14 @@ pub fn check_report(p: &Prepared, checked: &ModelCheck) -> String {
             l.name, l.from[0], l.from[1], l.to[0], l.to[1], l.samples
         );
     }
+    for c in &s.contacts {
+        let _ = writeln!(
+            o,
+            "contact {}: resistance {} m²·K/W on every edge where the two materials meet",
+            c.label(&s.materials),
+            sci(c.resistance, 4)
+        );
+    }
     cases_lines(&mut o, s);
     let _ = writeln!(
         o,

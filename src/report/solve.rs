@@ -90,6 +90,39 @@ fn point_sources_table(o: &mut String, r: &Results) {
     push_table(o, &t, 1);
 }
 
+/// One row per `[[contacts]]` entry: interface length, resistance, mean jump, heat flow.
+fn contacts_table(o: &mut String, sv: &Solved) {
+    let s = sv.section();
+    if s.contacts.is_empty() {
+        return;
+    }
+    let flows = crate::post::contacts::contact_flows(s, &sv.mesh, &sv.results.temperature);
+    let _ = writeln!(
+        o,
+        "contacts (zero-thickness interfaces; jump = T_a − T_b, flow from a to b):"
+    );
+    let mut t = table(
+        &[
+            "contact a/b",
+            "length m",
+            "R m²·K/W",
+            "mean jump K",
+            "heat flow W/m",
+        ],
+        "lrrrr",
+    );
+    for c in &flows {
+        t.add_row(vec![
+            format!("{}/{}", c.between[0], c.between[1]),
+            fixed(c.interface_length_m, 6),
+            sci(c.resistance_m2k_per_w, 4),
+            fixed(c.mean_temperature_jump_k, 4),
+            fixed(c.heat_flow_a_to_b_w_per_m, 6),
+        ]);
+    }
+    push_table(o, &t, 1);
+}
+
 fn probes_and_lines(o: &mut String, r: &Results) {
     point_sources_table(o, r);
     if !r.probes.is_empty() {
@@ -183,6 +216,7 @@ pub fn solve_report(sv: &Solved) -> String {
     boundaries_table(&mut o, r);
     probes_and_lines(&mut o, r);
     super::results::flows_tables(&mut o, r);
+    contacts_table(&mut o, sv);
     if let Some(c) = &sv.coupling {
         super::results::coupling_tables(&mut o, c);
     }
