@@ -2,14 +2,16 @@
 //! triangles with their materials, the boundary edges with their names, and the statistics.
 
 use super::classify::{Classified, NO_PIECE};
+use super::mesher::lap;
 use super::quality::{self, SmallAngle};
-use super::{BoundaryEdge, Cdt, Mesh, spatial};
+use super::{BoundaryEdge, Cdt, Mesh, MeshTimings, spatial};
 use crate::error::{Error, Result};
 use crate::geom::Point;
 use crate::geometry::{Pslg, Zone};
 use crate::model::Section;
 use spade::handles::{FaceHandle, InnerTag};
 use spade::{CdtEdge, Point2, Triangulation};
+use std::time::Instant;
 
 type Face<'a> = FaceHandle<'a, InnerTag, Point2<f64>, (), CdtEdge<()>, ()>;
 
@@ -92,7 +94,9 @@ pub(super) fn extract(
     cl: &Classified,
     small: &[SmallAngle],
     to_cdt: &[usize],
+    timings: &mut MeshTimings,
 ) -> Result<Mesh> {
+    let mut t = Instant::now();
     let (kept, node_of, nodes) = kept_faces(cdt, cl)?;
     let mut triangles = Vec::with_capacity(kept.len());
     let mut material = Vec::with_capacity(kept.len());
@@ -118,6 +122,7 @@ pub(super) fn extract(
     for n in node_of.iter_mut().filter(|n| **n != usize::MAX) {
         *n = new_of[*n];
     }
+    lap(&mut t, &mut timings.extract_s);
     let mut small_nodes = vec![false; nodes.len()];
     for &(pv, _, _) in small {
         let n = node_of[to_cdt[pv]];
@@ -134,6 +139,7 @@ pub(super) fn extract(
         &small_nodes,
         section.mesh.max_area,
     );
+    lap(&mut t, &mut timings.stats_s);
     let mut mesh = Mesh {
         nodes,
         triangles,
@@ -143,5 +149,6 @@ pub(super) fn extract(
         stats,
     };
     super::contact::split(section, &mut mesh);
+    lap(&mut t, &mut timings.contact_s);
     Ok(mesh)
 }

@@ -8,7 +8,8 @@ use super::classify::{Classified, NO_PIECE, classify};
 use super::quality::{SmallAngle, centroid, longest_edge, small_input_angles};
 use super::{
     BOUNDARY_SIZE_FACTOR, Cdt, Constraint, MAX_ANGLE_PASSES, MAX_SIZE_PASSES, Mesh, MeshOptions,
-    SMALL_INPUT_ANGLE_FACTOR, SizeField, estimate_triangles, extract::extract, section_area,
+    MeshTimings, SMALL_INPUT_ANGLE_FACTOR, SizeField, estimate_triangles, extract::extract,
+    section_area,
 };
 use crate::error::{Error, Result};
 use crate::geom::{self, Point};
@@ -16,6 +17,7 @@ use crate::geometry::Pslg;
 use crate::model::Section;
 use spade::handles::{FixedFaceHandle, InnerTag};
 use spade::{AngleLimit, Point2, PositionInTriangulation, RefinementParameters, Triangulation};
+use std::time::Instant;
 
 /// A triangulation being refined: keeps spade's triangulation between refinement steps, so a
 /// mesh can be refined further where an error indicator asks (adaptive refinement) without
@@ -34,6 +36,14 @@ pub struct Mesher<'a> {
     bbox_area: f64,
     min_area: f64,
     estimate: f64,
+    timings: MeshTimings,
+}
+
+/// Seconds since `t`, added to `acc`; restarts `t`.
+pub(super) fn lap(t: &mut Instant, acc: &mut f64) {
+    let now = Instant::now();
+    *acc += (now - *t).as_secs_f64();
+    *t = now;
 }
 
 /// Points in Morton order (ties by their position in `pts`): each insertion starts its walk
@@ -254,6 +264,8 @@ struct Inserts {
 impl<'a> Mesher<'a> {
     /// Triangulate the segment set (no refinement yet) and check the size estimate.
     pub fn new(section: &'a Section, pslg: &'a Pslg, opts: &MeshOptions) -> Result<Self> {
+        let mut timings = MeshTimings::default();
+        let mut t = Instant::now();
         let (used_list, to_cdt) = used_vertices(pslg);
         let mut verts: Vec<Point2<f64>> = used_list
             .iter()
@@ -266,6 +278,7 @@ impl<'a> Mesher<'a> {
         verts.extend(pslg.points.iter().map(|p| Point2::new(p[0], p[1])));
         add_frame(&mut verts);
         let cdt = triangulate(&verts, &cons)?;
+        lap(&mut t, &mut timings.cdt_s);
         let small = small_input_angles(
             pslg,
             &used_list,
@@ -273,8 +286,10 @@ impl<'a> Mesher<'a> {
         );
         let zone_limit = zone_limits(section, pslg);
         let classified = classify(&cdt, pslg, &cons)?;
+        lap(&mut t, &mut timings.classify_s);
         let estimate =
             check_size_estimate(section, &cdt, &classified, &zone_limit, boundary, opts)?;
+        lap(&mut t, &mut timings.scan_s);
         let [x0, y0, x1, y1] = geom::bbox(verts.iter().map(|p| to_point(*p)));
         // Triangles below `min_area` are left alone by the refinement. Snapped crossing points
         // sit off their segment's line by round-off, which leaves slivers of ~1e-16 relative
@@ -296,6 +311,7 @@ impl<'a> Mesher<'a> {
             bbox_area: (x1 - x0) * (y1 - y0),
             min_area: (1e-6 * diam).powi(2),
             estimate,
+            timings,
         })
     }
 
@@ -307,20 +323,31 @@ impl<'a> Mesher<'a> {
 
     /// The current triangulation as a [`Mesh`].
     pub fn mesh(&self) -> Result<Mesh> {
-        extract(
+        Ok(self.mesh_timed()?.0)
+    }
+
+    /// The current triangulation as a [`Mesh`], with the time spent in each pass so far
+    /// (triangulation, refinement and this extraction).
+    pub fn mesh_timed(&self) -> Result<(Mesh, MeshTimings)> {
+        let mut timings = self.timings;
+        let mesh = extract(
             self.section,
             self.pslg,
             &self.cdt,
             &self.classified,
             &self.small,
             &self.to_cdt,
-        )
+            &mut timings,
+        )?;
+        Ok((mesh, timings))
     }
 
     /// Insert `points` (e.g. centroids of triangles an error indicator marks), then refine until
     /// the angle limit, the area limits, the boundary sizes and the size field all hold.
     pub fn refine(&mut self, field: Option<&dyn SizeField>, points: &[Point]) -> Result<()> {
+        let mut t = Instant::now();
         self.insert_inside(points)?;
+        lap(&mut t, &mut self.timings.insert_s);
         let mut pass = 0;
         let mut angle_passes = 0;
         // Triangulation vertices at input angles too small for the angle limit.
@@ -330,9 +357,12 @@ impl<'a> Mesher<'a> {
         }
         loop {
             self.refine_pass()?;
+            lap(&mut t, &mut self.timings.refine_s);
             self.classified = classify(&self.cdt, self.pslg, &self.cons)?;
+            lap(&mut t, &mut self.timings.classify_s);
             small_cdt.resize(self.cdt.num_vertices(), false);
             let mut ins = self.inserts(field, &small_cdt, angle_passes < MAX_ANGLE_PASSES);
+            lap(&mut t, &mut self.timings.scan_s);
             if ins.size.is_empty() && ins.angle.is_empty() {
                 break;
             }
@@ -345,6 +375,7 @@ impl<'a> Mesher<'a> {
             for c in in_morton_order(ins.size) {
                 insert(&mut self.cdt, c)?;
             }
+            lap(&mut t, &mut self.timings.insert_s);
         }
         Ok(())
     }
