@@ -1,64 +1,59 @@
 //! Turning the classified triangulation into a [`Mesh`]: the kept faces and their nodes, the
-//! triangles with their materials, the boundary edges with their names, and the statistics.
+//! triangles with their materials, the boundary edges with their names, all numbered in Morton
+//! order (as [`spatial::renumber`] would number them) without an intermediate numbering, and
+//! the statistics.
 
 use super::classify::{Classified, NO_PIECE};
 use super::mesher::lap;
 use super::quality::{self, SmallAngle};
 use super::{BoundaryEdge, Cdt, Mesh, MeshTimings, spatial};
 use crate::error::{Error, Result};
-use crate::geom::Point;
-use crate::geometry::{Pslg, Zone};
+use crate::geom::{self, Point};
+use crate::geometry::Pslg;
 use crate::model::Section;
-use spade::handles::{FaceHandle, InnerTag};
-use spade::{CdtEdge, Point2, Triangulation};
+use spade::Triangulation;
 use std::time::Instant;
 
-type Face<'a> = FaceHandle<'a, InnerTag, Point2<f64>, (), CdtEdge<()>, ()>;
+/// Marks a triangulation vertex of no kept face.
+const UNUSED: usize = usize::MAX;
 
-/// The faces in the section and the node number of each triangulation vertex
-/// (`usize::MAX` for vertices of no kept face), with the node coordinates.
-fn kept_faces<'a>(
-    cdt: &'a Cdt,
-    cl: &Classified,
-) -> Result<(Vec<Face<'a>>, Vec<usize>, Vec<Point>)> {
-    let mut node_of = vec![usize::MAX; cdt.num_vertices()];
-    let mut kept = Vec::new();
-    for f in cdt.inner_faces() {
-        if cl.face_zone[f.fix().index()].is_some() {
-            kept.push(f);
-            for v in f.vertices() {
-                node_of[v.fix().index()] = 0;
-            }
-        }
-    }
-    if kept.is_empty() {
-        return Err(Error::input("mesh: the section has no area"));
-    }
-    let mut nodes = Vec::new();
-    for v in cdt.vertices() {
-        let i = v.fix().index();
-        if node_of[i] == 0 {
-            node_of[i] = nodes.len();
-            let p = v.position();
-            nodes.push([p.x, p.y]);
-        }
-    }
-    Ok((kept, node_of, nodes))
+/// The kept faces in face order: their vertices (triangulation indices), zones and boundary
+/// edges (nodes as triangulation indices, triangle as the kept face's position).
+struct Kept {
+    faces: Vec<[u32; 3]>,
+    zone: Vec<u32>,
+    boundary: Vec<BoundaryEdge>,
+    used: Vec<bool>,
 }
 
-/// Edges of kept faces whose other side is not kept, with their boundary names.
-fn boundary_edges(
-    pslg: &Pslg,
-    cl: &Classified,
-    kept: &[Face],
-    node_of: &[usize],
-) -> Result<Vec<BoundaryEdge>> {
-    let zone = |f: Face| -> Zone { cl.face_zone[f.fix().index()] };
-    let mut out = Vec::new();
-    for (t, f) in kept.iter().enumerate() {
-        for e in f.adjacent_edges() {
-            let other_kept = e.rev().face().as_inner().is_some_and(|n| zone(n).is_some());
-            if other_kept {
+/// One pass over the faces: the kept ones with their vertices, zones and boundary edges (edges
+/// whose other side is not kept, named by their piece).
+fn kept_faces(cdt: &Cdt, pslg: &Pslg, cl: &Classified) -> Result<Kept> {
+    let mut k = Kept {
+        faces: Vec::with_capacity(cdt.num_inner_faces()),
+        zone: Vec::with_capacity(cdt.num_inner_faces()),
+        boundary: Vec::new(),
+        used: vec![false; cdt.num_vertices()],
+    };
+    for f in cdt.inner_faces() {
+        let Some(z) = cl.zone(f.fix().index()) else {
+            continue;
+        };
+        let t = k.faces.len();
+        let edges = f.adjacent_edges();
+        // spade's `vertices()`: the origins of `adjacent_edges()`, counter-clockwise.
+        let vs = edges.map(|e| e.from().fix().index());
+        for &v in &vs {
+            k.used[v] = true;
+        }
+        k.faces.push(vs.map(|v| v as u32));
+        k.zone.push(z as u32);
+        for (i, e) in edges.iter().enumerate() {
+            if e.rev()
+                .face()
+                .as_inner()
+                .is_some_and(|n| cl.kept(n.fix().index()))
+            {
                 continue;
             }
             let piece = cl.edge_piece[e.as_undirected().fix().index()];
@@ -71,11 +66,8 @@ fn boundary_edges(
             let ring = p
                 .ring
                 .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
-            out.push(BoundaryEdge {
-                nodes: [
-                    node_of[e.from().fix().index()],
-                    node_of[e.to().fix().index()],
-                ],
+            k.boundary.push(BoundaryEdge {
+                nodes: [vs[i], vs[(i + 1) % 3]],
                 boundary: p.boundary,
                 triangle: t,
                 ring,
@@ -83,7 +75,10 @@ fn boundary_edges(
             });
         }
     }
-    Ok(out)
+    if k.faces.is_empty() {
+        return Err(Error::input("mesh: the section has no area"));
+    }
+    Ok(k)
 }
 
 /// Turn the classified triangulation into a [`Mesh`].
@@ -97,36 +92,73 @@ pub(super) fn extract(
     timings: &mut MeshTimings,
 ) -> Result<Mesh> {
     let mut t = Instant::now();
-    let (kept, node_of, nodes) = kept_faces(cdt, cl)?;
-    let mut triangles = Vec::with_capacity(kept.len());
-    let mut material = Vec::with_capacity(kept.len());
-    for f in &kept {
-        let vs = f.vertices();
-        triangles.push([
-            node_of[vs[0].fix().index()],
-            node_of[vs[1].fix().index()],
-            node_of[vs[2].fix().index()],
-        ]);
-        let zone = cl.face_zone[f.fix().index()]
-            .ok_or_else(|| Error::run("internal: kept face without zone"))?;
-        material.push(pslg.zone_material[zone]);
+    let k = kept_faces(cdt, pslg, cl)?;
+    // Nodes in Morton order of their positions, ties by triangulation index (the order of a
+    // numbering in vertex order, as `spatial::renumber` breaks ties).
+    let all: Vec<Point> = cdt
+        .vertices()
+        .map(|v| {
+            let p = v.position();
+            [p.x, p.y]
+        })
+        .collect();
+    let b = geom::bbox(
+        all.iter()
+            .zip(&k.used)
+            .filter(|(_, u)| **u)
+            .map(|(p, _)| *p),
+    );
+    let mut keyed: Vec<(u64, usize)> = all
+        .iter()
+        .zip(&k.used)
+        .enumerate()
+        .filter(|(_, (_, u))| **u)
+        .map(|(i, (&p, _))| (spatial::morton_code(p, b), i))
+        .collect();
+    keyed.sort_unstable();
+    let mut node_of = vec![UNUSED; all.len()];
+    let mut nodes = Vec::with_capacity(keyed.len());
+    for (new, &(_, v)) in keyed.iter().enumerate() {
+        node_of[v] = new;
+        nodes.push(all[v]);
     }
-    let mut boundary_edges = boundary_edges(pslg, cl, &kept, &node_of)?;
-    let (mut nodes, mut node_of) = (nodes, node_of);
-    let new_of = spatial::renumber(spatial::Numbered {
-        nodes: &mut nodes,
-        triangles: &mut triangles,
-        material: &mut material,
-        boundary_edges: &mut boundary_edges,
-    });
-    for n in node_of.iter_mut().filter(|n| **n != usize::MAX) {
-        *n = new_of[*n];
+    drop(keyed);
+    drop(all);
+    // Triangles in Morton order of their centroids (codes in the nodes' box), ties by face
+    // order.
+    let mut keyed: Vec<(u64, usize)> = k
+        .faces
+        .iter()
+        .enumerate()
+        .map(|(t, f)| {
+            let p = f.map(|v| nodes[node_of[v as usize]]);
+            let c = [
+                (p[0][0] + p[1][0] + p[2][0]) / 3.0,
+                (p[0][1] + p[1][1] + p[2][1]) / 3.0,
+            ];
+            (spatial::morton_code(c, b), t)
+        })
+        .collect();
+    keyed.sort_unstable();
+    let mut tri_new_of = vec![0; keyed.len()];
+    let mut triangles = Vec::with_capacity(keyed.len());
+    let mut material = Vec::with_capacity(keyed.len());
+    for (new, &(_, old)) in keyed.iter().enumerate() {
+        tri_new_of[old] = new;
+        triangles.push(k.faces[old].map(|v| node_of[v as usize]));
+        material.push(pslg.zone_material[k.zone[old] as usize]);
+    }
+    drop(keyed);
+    let mut boundary_edges = k.boundary;
+    for e in &mut boundary_edges {
+        e.nodes = e.nodes.map(|v| node_of[v]);
+        e.triangle = tri_new_of[e.triangle];
     }
     lap(&mut t, &mut timings.extract_s);
     let mut small_nodes = vec![false; nodes.len()];
     for &(pv, _, _) in small {
         let n = node_of[to_cdt[pv]];
-        if n != usize::MAX {
+        if n != UNUSED {
             small_nodes[n] = true;
         }
     }

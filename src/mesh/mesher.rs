@@ -4,7 +4,7 @@
 //! centroids where the size controls still find triangles too large, circumcentres where the
 //! angle limit is still missed).
 
-use super::classify::{Classified, NO_PIECE, classify};
+use super::classify::{Classified, NO_PIECE, Screen, classify};
 use super::quality::{SmallAngle, centroid, longest_edge, small_input_angles};
 use super::{
     BOUNDARY_SIZE_FACTOR, Cdt, Constraint, MAX_ANGLE_PASSES, MAX_SIZE_PASSES, Mesh, MeshOptions,
@@ -15,7 +15,8 @@ use crate::error::{Error, Result};
 use crate::geom::{self, Point};
 use crate::geometry::Pslg;
 use crate::model::Section;
-use spade::handles::{FixedFaceHandle, InnerTag};
+use spade::CdtEdge;
+use spade::handles::{FaceHandle, FixedFaceHandle, InnerTag};
 use spade::{AngleLimit, Point2, PositionInTriangulation, RefinementParameters, Triangulation};
 use std::time::Instant;
 
@@ -38,6 +39,8 @@ pub struct Mesher<'a> {
     estimate: f64,
     timings: MeshTimings,
 }
+
+type Face<'a> = FaceHandle<'a, InnerTag, Point2<f64>, (), CdtEdge<()>, ()>;
 
 /// Seconds since `t`, added to `acc`; restarts `t`.
 pub(super) fn lap(t: &mut Instant, acc: &mut f64) {
@@ -215,7 +218,7 @@ fn check_size_estimate(
 ) -> Result<f64> {
     let mut estimate = boundary;
     for f in cdt.inner_faces() {
-        if let Some(z) = classified.face_zone[f.fix().index()] {
+        if let Some(z) = classified.zone(f.fix().index()) {
             let p = positions(f.positions());
             estimate += estimate_triangles(geom::triangle_area(p[0], p[1], p[2]), zone_limit[z]);
         }
@@ -285,7 +288,7 @@ impl<'a> Mesher<'a> {
             SMALL_INPUT_ANGLE_FACTOR * section.mesh.min_angle,
         );
         let zone_limit = zone_limits(section, pslg);
-        let classified = classify(&cdt, pslg, &cons)?;
+        let classified = classify(&cdt, pslg, &cons, None)?;
         lap(&mut t, &mut timings.classify_s);
         let estimate =
             check_size_estimate(section, &cdt, &classified, &zone_limit, boundary, opts)?;
@@ -358,7 +361,19 @@ impl<'a> Mesher<'a> {
         loop {
             self.refine_pass()?;
             lap(&mut t, &mut self.timings.refine_s);
-            self.classified = classify(&self.cdt, self.pslg, &self.cons)?;
+            // Without a size field or boundary sizes, the flood fill itself screens the faces
+            // for the area and angle limits; `inserts` then looks at the flagged ones only.
+            let screened = field.is_none() && !self.any_boundary_size();
+            let screen = Screen {
+                zone_limit: &self.zone_limit,
+                sin2_limit: self.sin2_limit(),
+            };
+            self.classified = classify(
+                &self.cdt,
+                self.pslg,
+                &self.cons,
+                screened.then_some(&screen),
+            )?;
             lap(&mut t, &mut self.timings.classify_s);
             small_cdt.resize(self.cdt.num_vertices(), false);
             let mut ins = self.inserts(field, &small_cdt, angle_passes < MAX_ANGLE_PASSES);
@@ -388,7 +403,7 @@ impl<'a> Mesher<'a> {
             .map(|p| Point2::new(p[0], p[1]))
             .filter(|&q| {
                 matches!(self.cdt.locate(q), PositionInTriangulation::OnFace(g)
-                    if self.classified.face_zone[g.index()].is_some())
+                    if self.classified.kept(g.index()))
             })
             .collect();
         for q in in_morton_order(inside) {
@@ -448,11 +463,22 @@ impl<'a> Mesher<'a> {
         advice.join("; ")
     }
 
+    /// True when some boundary has a `size`.
+    fn any_boundary_size(&self) -> bool {
+        self.section.boundaries.iter().any(|b| b.size.is_some())
+    }
+
+    /// sin² of the angle limit (a hair below, so triangles right at the limit pass).
+    fn sin2_limit(&self) -> f64 {
+        let min_angle = self.section.mesh.min_angle;
+        (min_angle * (1.0 - 1e-9)).to_radians().sin().powi(2)
+    }
+
     /// The smallest `size` of the sized boundaries through each triangulation vertex
     /// (infinite elsewhere); `None` when no boundary has a size.
     fn vertex_sizes(&self) -> Option<Vec<f64>> {
         let section = self.section;
-        if !section.boundaries.iter().any(|b| b.size.is_some()) {
+        if !self.any_boundary_size() {
             return None;
         }
         let mut vertex_size = vec![f64::INFINITY; self.cdt.num_vertices()];
@@ -482,50 +508,77 @@ impl<'a> Mesher<'a> {
         small_cdt: &[bool],
         angle_pass: bool,
     ) -> Inserts {
-        let min_angle = self.section.mesh.min_angle;
-        let sin2_limit = (min_angle * (1.0 - 1e-9)).to_radians().sin().powi(2);
         let vertex_size = self.vertex_sizes();
         let mut out = Inserts {
             size: Vec::new(),
             angle: Vec::new(),
         };
-        for f in self.cdt.inner_faces() {
-            let Some(z) = self.classified.face_zone[f.fix().index()] else {
-                continue;
-            };
-            let p = positions(f.positions());
-            let c = centroid(p);
-            let mut limit = self.zone_limit[z];
-            if let Some(field) = field {
-                limit = limit.min(field.max_area_at(c));
+        if field.is_none() && vertex_size.is_none() {
+            // The classification flagged every face that breaks a limit (in face order).
+            for &i in &self.classified.flagged {
+                let f = self.cdt.face(i);
+                self.judge(f, None, None, small_cdt, angle_pass, &mut out);
             }
-            let mut split = geom::triangle_area(p[0], p[1], p[2]) > limit * (1.0 + 1e-12);
-            if let (false, Some(vs)) = (split, &vertex_size) {
-                let s = f
-                    .vertices()
-                    .iter()
-                    .map(|v| vs[v.fix().index()])
-                    .fold(f64::INFINITY, f64::min);
-                split = s.is_finite() && longest_edge(p) > BOUNDARY_SIZE_FACTOR * s;
-            }
-            if split {
-                out.size.push(Point2::new(c[0], c[1]));
-                continue;
-            }
-            if angle_pass
-                && geom::min_angle_sin2(p) < sin2_limit
-                && !f.vertices().iter().any(|v| small_cdt[v.fix().index()])
-            {
-                let cc = f.circumcenter();
-                if let PositionInTriangulation::OnFace(g) = self.cdt.locate(cc)
-                    && self.classified.face_zone[g.index()].is_some()
-                    && !encroaches_nearby_constraint(&self.cdt, g, cc)
-                {
-                    out.angle.push(cc);
-                }
+        } else {
+            for f in self.cdt.inner_faces() {
+                self.judge(
+                    f,
+                    field,
+                    vertex_size.as_deref(),
+                    small_cdt,
+                    angle_pass,
+                    &mut out,
+                );
             }
         }
         out
+    }
+
+    /// One face for [`Self::inserts`]: its centroid when the size controls find it too large,
+    /// else its circumcentre when it is below the angle limit (and may be fixed there).
+    fn judge(
+        &self,
+        f: Face,
+        field: Option<&dyn SizeField>,
+        vertex_size: Option<&[f64]>,
+        small_cdt: &[bool],
+        angle_pass: bool,
+        out: &mut Inserts,
+    ) {
+        let Some(z) = self.classified.zone(f.fix().index()) else {
+            return;
+        };
+        let p = positions(f.positions());
+        let c = centroid(p);
+        let mut limit = self.zone_limit[z];
+        if let Some(field) = field {
+            limit = limit.min(field.max_area_at(c));
+        }
+        let mut split = geom::triangle_area(p[0], p[1], p[2]) > limit * (1.0 + 1e-12);
+        if let (false, Some(vs)) = (split, vertex_size) {
+            let s = f
+                .vertices()
+                .iter()
+                .map(|v| vs[v.fix().index()])
+                .fold(f64::INFINITY, f64::min);
+            split = s.is_finite() && longest_edge(p) > BOUNDARY_SIZE_FACTOR * s;
+        }
+        if split {
+            out.size.push(Point2::new(c[0], c[1]));
+            return;
+        }
+        if angle_pass
+            && geom::min_angle_sin2(p) < self.sin2_limit()
+            && !f.vertices().iter().any(|v| small_cdt[v.fix().index()])
+        {
+            let cc = f.circumcenter();
+            if let PositionInTriangulation::OnFace(g) = self.cdt.locate(cc)
+                && self.classified.kept(g.index())
+                && !encroaches_nearby_constraint(&self.cdt, g, cc)
+            {
+                out.angle.push(cc);
+            }
+        }
     }
 
     /// Refuses to go on after too many passes or beyond the triangle limit.
