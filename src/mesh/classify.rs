@@ -70,7 +70,7 @@ fn trace_constraint(cdt: &Cdt, c: &Constraint, edge_piece: &mut [u32]) -> Result
 pub(super) struct Screen<'a> {
     /// Area limit of a triangle of each zone, m².
     pub(super) zone_limit: &'a [f64],
-    /// Faces whose smallest angle has a sin² below this are reported (0: none).
+    /// Faces whose smallest angle has a sin² below this are reported.
     pub(super) sin2_limit: f64,
 }
 
@@ -81,6 +81,18 @@ const VOID: u32 = u32::MAX - 1;
 /// Marks a face visited in the current component, zone not yet known.
 const PENDING: u32 = u32::MAX - 2;
 
+/// The faces of the section as a pass over the triangulation found them, in any order: what
+/// extraction needs, so that it does not walk the triangulation again.
+#[derive(Default)]
+pub(super) struct Gathered {
+    /// Face index, vertices (triangulation indices, counter-clockwise, starting as spade's
+    /// `vertices()` does) and zone of each face of the section.
+    pub(super) faces: Vec<(u32, [u32; 3], u32)>,
+    /// Edges of those faces with no face of the section on their other side: face index, the
+    /// edge's place among the face's `adjacent_edges()`, and its piece.
+    pub(super) boundary: Vec<(u32, u8, u32)>,
+}
+
 /// Zones of the faces and the piece of every constraint edge of the current triangulation.
 pub(super) struct Classified {
     /// Piece of each undirected edge (`NO_PIECE` for non-constraint edges).
@@ -90,6 +102,8 @@ pub(super) struct Classified {
     /// Faces of the section (in face order) that are larger than their zone's area limit or
     /// below the angle limit (empty without a [`Screen`]).
     pub(super) flagged: Vec<FixedFaceHandle<InnerTag>>,
+    /// The section's faces, gathered by the flood fill when it screened them.
+    pub(super) gathered: Option<Gathered>,
 }
 
 impl Classified {
@@ -108,56 +122,88 @@ impl Classified {
 type Face<'a> =
     spade::handles::FaceHandle<'a, InnerTag, spade::Point2<f64>, (), spade::CdtEdge<()>, ()>;
 
-/// Area and sin² of the smallest angle of a face.
-fn area_and_sin2(f: Face) -> (f64, f64) {
-    let [a, b, c] = f.positions();
-    let p = [[a.x, a.y], [b.x, b.y], [c.x, c.y]];
+/// Area and sin² of the smallest angle of a triangle.
+fn area_and_sin2(p: [Point; 3]) -> (f64, f64) {
     (
         geom::triangle_area(p[0], p[1], p[2]),
         geom::min_angle_sin2(p),
     )
 }
 
+/// One connected component of faces, as the flood fill visits it.
+#[derive(Default)]
+struct Component {
+    /// Its faces (indices).
+    members: Vec<u32>,
+    /// Faces that may break a limit (screening).
+    maybe: Vec<FixedFaceHandle<InnerTag>>,
+    /// Vertices of its faces, beside `members` (gathering).
+    verts: Vec<[u32; 3]>,
+    /// Its constraint edges with no zone on their other side (gathering).
+    boundary: Vec<(u32, u8, u32)>,
+}
+
+impl Component {
+    fn clear(&mut self) {
+        self.members.clear();
+        self.maybe.clear();
+        self.verts.clear();
+        self.boundary.clear();
+    }
+}
+
 /// Flood-fills the connected component of faces containing `start` (across non-constraint
-/// edges), marking its faces `PENDING` and listing them in `members`; returns its zone. With a
-/// screen, faces larger than `min_limit` or below its angle limit go to `flagged`.
+/// edges), marking its faces `PENDING` and listing them in `comp`; returns its zone. With a
+/// screen (and the smallest zone limit), lists the faces larger than that limit or below the
+/// angle limit, and gathers the faces' vertices and boundary edges.
 fn component_zone(
     pslg: &Pslg,
     edge_piece: &[u32],
     start: Face,
     face_zone: &mut [u32],
-    members: &mut Vec<u32>,
     screen: Option<(&Screen, f64)>,
-    flagged: &mut Vec<FixedFaceHandle<InnerTag>>,
+    comp: &mut Component,
 ) -> Result<Zone> {
     let mut zone: Option<Zone> = None;
     let mut stack = vec![start];
     face_zone[start.fix().index()] = PENDING;
     while let Some(face) = stack.pop() {
-        members.push(face.fix().index() as u32);
+        let fi = face.fix().index() as u32;
+        comp.members.push(fi);
+        let edges = face.adjacent_edges();
+        let vs = edges.map(|e| e.from());
         if let Some((s, min_limit)) = screen {
-            let (area, sin2) = area_and_sin2(face);
+            let p = vs.map(|v| {
+                let q = v.position();
+                [q.x, q.y]
+            });
+            let (area, sin2) = area_and_sin2(p);
             if area > min_limit || sin2 < s.sin2_limit {
-                flagged.push(face.fix());
+                comp.maybe.push(face.fix());
             }
+            comp.verts.push(vs.map(|v| v.fix().index() as u32));
         }
-        for e in face.adjacent_edges() {
+        for (slot, e) in edges.iter().enumerate() {
             if e.is_constraint_edge() {
                 let piece = edge_piece[e.as_undirected().fix().index()];
                 if piece == NO_PIECE {
                     return Err(Error::run("internal: constraint edge without a segment"));
                 }
-                let [a, b] = e.positions();
-                let z = zone_left_of(pslg, piece as usize, [a.x, a.y], [b.x, b.y]);
+                let (a, b) = (vs[slot].position(), vs[(slot + 1) % 3].position());
+                let (a, b) = ([a.x, a.y], [b.x, b.y]);
+                let z = zone_left_of(pslg, piece as usize, a, b);
                 match zone {
                     None => zone = Some(z),
                     Some(prev) if prev != z => {
                         return Err(Error::run(format!(
                             "internal: inconsistent zones around {}",
-                            geom::format_point([a.x, a.y])
+                            geom::format_point(a)
                         )));
                     }
                     _ => {}
+                }
+                if screen.is_some() && zone_left_of(pslg, piece as usize, b, a).is_none() {
+                    comp.boundary.push((fi, slot as u8, piece));
                 }
                 continue;
             }
@@ -186,7 +232,7 @@ fn component_zone(
 
 /// Pieces of the constraint edges and zones of the faces of the current triangulation, in one
 /// flood fill over the faces; with a `screen`, also the faces of the section that break their
-/// zone's area limit or the angle limit.
+/// zone's area limit or the angle limit, and the section's faces gathered for extraction.
 pub(super) fn classify(
     cdt: &Cdt,
     pslg: &Pslg,
@@ -204,23 +250,15 @@ pub(super) fn classify(
         let min_limit = s.zone_limit.iter().copied().fold(f64::INFINITY, f64::min);
         (s, min_limit * (1.0 + 1e-12))
     });
-    let mut members = Vec::new();
-    let (mut flagged, mut maybe) = (Vec::new(), Vec::new());
+    let mut comp = Component::default();
+    let mut flagged = Vec::new();
+    let mut gathered = Gathered::default();
     for f in cdt.inner_faces() {
         if face_zone[f.fix().index()] != UNSEEN {
             continue;
         }
-        members.clear();
-        maybe.clear();
-        let zone = component_zone(
-            pslg,
-            &edge_piece,
-            f,
-            &mut face_zone,
-            &mut members,
-            screen,
-            &mut maybe,
-        )?;
+        comp.clear();
+        let zone = component_zone(pslg, &edge_piece, f, &mut face_zone, screen, &mut comp)?;
         let mark = match zone {
             Some(z) => u32::try_from(z)
                 .ok()
@@ -228,15 +266,23 @@ pub(super) fn classify(
                 .ok_or_else(|| Error::run("internal: too many zones"))?,
             None => VOID,
         };
-        for &i in &members {
+        for &i in &comp.members {
             face_zone[i as usize] = mark;
         }
         if let (Some(z), Some((s, _))) = (zone, screen) {
             let limit = s.zone_limit[z] * (1.0 + 1e-12);
-            flagged.extend(maybe.iter().copied().filter(|&i| {
-                let (area, sin2) = area_and_sin2(cdt.face(i));
+            flagged.extend(comp.maybe.iter().copied().filter(|&f| {
+                let p = cdt.face(f).positions().map(|q| [q.x, q.y]);
+                let (area, sin2) = area_and_sin2(p);
                 area > limit || sin2 < s.sin2_limit
             }));
+            gathered.faces.extend(
+                comp.members
+                    .iter()
+                    .zip(&comp.verts)
+                    .map(|(&i, &vs)| (i, vs, mark)),
+            );
+            gathered.boundary.extend_from_slice(&comp.boundary);
         }
     }
     flagged.sort_unstable();
@@ -244,5 +290,6 @@ pub(super) fn classify(
         edge_piece,
         face_zone,
         flagged,
+        gathered: screen.is_some().then_some(gathered),
     })
 }

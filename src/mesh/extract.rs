@@ -3,7 +3,7 @@
 //! order (as [`spatial::renumber`] would number them) without an intermediate numbering, and
 //! the statistics.
 
-use super::classify::{Classified, NO_PIECE};
+use super::classify::{Classified, Gathered, NO_PIECE};
 use super::mesher::lap;
 use super::quality::{self, SmallAngle};
 use super::{BoundaryEdge, Cdt, Mesh, MeshTimings, spatial};
@@ -17,38 +17,23 @@ use std::time::Instant;
 /// Marks a triangulation vertex of no kept face.
 const UNUSED: usize = usize::MAX;
 
-/// The kept faces in face order: their vertices (triangulation indices), zones and boundary
-/// edges (nodes as triangulation indices, triangle as the kept face's position).
-struct Kept {
-    faces: Vec<[u32; 3]>,
-    zone: Vec<u32>,
-    boundary: Vec<BoundaryEdge>,
-    used: Vec<bool>,
-}
-
-/// One pass over the faces: the kept ones with their vertices, zones and boundary edges (edges
-/// whose other side is not kept, named by their piece).
-fn kept_faces(cdt: &Cdt, pslg: &Pslg, cl: &Classified) -> Result<Kept> {
-    let mut k = Kept {
-        faces: Vec::with_capacity(cdt.num_inner_faces()),
-        zone: Vec::with_capacity(cdt.num_inner_faces()),
-        boundary: Vec::new(),
-        used: vec![false; cdt.num_vertices()],
-    };
+/// One pass over the faces: the kept ones with their vertices and zones, and their edges whose
+/// other side is not kept (as the classification gathers them when it screens).
+fn gather(cdt: &Cdt, cl: &Classified) -> Result<Gathered> {
+    let mut g = Gathered::default();
     for f in cdt.inner_faces() {
-        let Some(z) = cl.zone(f.fix().index()) else {
+        let fi = f.fix().index();
+        let Some(z) = cl.zone(fi) else {
             continue;
         };
-        let t = k.faces.len();
         let edges = f.adjacent_edges();
         // spade's `vertices()`: the origins of `adjacent_edges()`, counter-clockwise.
-        let vs = edges.map(|e| e.from().fix().index());
-        for &v in &vs {
-            k.used[v] = true;
-        }
-        k.faces.push(vs.map(|v| v as u32));
-        k.zone.push(z as u32);
-        for (i, e) in edges.iter().enumerate() {
+        g.faces.push((
+            fi as u32,
+            edges.map(|e| e.from().fix().index() as u32),
+            z as u32,
+        ));
+        for (slot, e) in edges.iter().enumerate() {
             if e.rev()
                 .face()
                 .as_inner()
@@ -62,23 +47,10 @@ fn kept_faces(cdt: &Cdt, pslg: &Pslg, cl: &Classified) -> Result<Kept> {
                     "internal: section boundary edge is not a constraint",
                 ));
             }
-            let p = &pslg.pieces[piece as usize];
-            let ring = p
-                .ring
-                .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
-            k.boundary.push(BoundaryEdge {
-                nodes: [vs[i], vs[(i + 1) % 3]],
-                boundary: p.boundary,
-                triangle: t,
-                ring,
-                segment: p.segment,
-            });
+            g.boundary.push((fi as u32, slot as u8, piece));
         }
     }
-    if k.faces.is_empty() {
-        return Err(Error::input("mesh: the section has no area"));
-    }
-    Ok(k)
+    Ok(g)
 }
 
 /// Turn the classified triangulation into a [`Mesh`].
@@ -92,9 +64,25 @@ pub(super) fn extract(
     timings: &mut MeshTimings,
 ) -> Result<Mesh> {
     let mut t = Instant::now();
-    let k = kept_faces(cdt, pslg, cl)?;
-    // Nodes in Morton order of their positions, ties by triangulation index (the order of a
-    // numbering in vertex order, as `spatial::renumber` breaks ties).
+    let own;
+    let g = match &cl.gathered {
+        Some(g) => g,
+        None => {
+            own = gather(cdt, cl)?;
+            &own
+        }
+    };
+    if g.faces.is_empty() {
+        return Err(Error::input("mesh: the section has no area"));
+    }
+    let mut used = vec![false; cdt.num_vertices()];
+    for (_, vs, _) in &g.faces {
+        for &v in vs {
+            used[v as usize] = true;
+        }
+    }
+    // Nodes in Morton order of their positions, ties by triangulation index (the order a
+    // numbering in vertex order gets from `spatial::renumber`).
     let all: Vec<Point> = cdt
         .vertices()
         .map(|v| {
@@ -102,19 +90,15 @@ pub(super) fn extract(
             [p.x, p.y]
         })
         .collect();
-    let b = geom::bbox(
-        all.iter()
-            .zip(&k.used)
-            .filter(|(_, u)| **u)
-            .map(|(p, _)| *p),
-    );
+    let b = geom::bbox(all.iter().zip(&used).filter(|(_, u)| **u).map(|(p, _)| *p));
     let mut keyed: Vec<(u64, usize)> = all
         .iter()
-        .zip(&k.used)
+        .zip(&used)
         .enumerate()
         .filter(|(_, (_, u))| **u)
         .map(|(i, (&p, _))| (spatial::morton_code(p, b), i))
         .collect();
+    drop(used);
     keyed.sort_unstable();
     let mut node_of = vec![UNUSED; all.len()];
     let mut nodes = Vec::with_capacity(keyed.len());
@@ -123,36 +107,55 @@ pub(super) fn extract(
         nodes.push(all[v]);
     }
     drop(keyed);
-    drop(all);
     // Triangles in Morton order of their centroids (codes in the nodes' box), ties by face
-    // order.
-    let mut keyed: Vec<(u64, usize)> = k
+    // index (the order of the faces in the triangulation).
+    let mut keyed: Vec<(u64, u64)> = g
         .faces
         .iter()
         .enumerate()
-        .map(|(t, f)| {
-            let p = f.map(|v| nodes[node_of[v as usize]]);
+        .map(|(k, (fi, vs, _))| {
+            let p = vs.map(|v| all[v as usize]);
             let c = [
                 (p[0][0] + p[1][0] + p[2][0]) / 3.0,
                 (p[0][1] + p[1][1] + p[2][1]) / 3.0,
             ];
-            (spatial::morton_code(c, b), t)
+            (
+                spatial::morton_code(c, b),
+                (u64::from(*fi) << 32) | k as u64,
+            )
         })
         .collect();
+    drop(all);
     keyed.sort_unstable();
-    let mut tri_new_of = vec![0; keyed.len()];
+    let mut tri_of_face = vec![u32::MAX; cdt.num_all_faces()];
     let mut triangles = Vec::with_capacity(keyed.len());
     let mut material = Vec::with_capacity(keyed.len());
-    for (new, &(_, old)) in keyed.iter().enumerate() {
-        tri_new_of[old] = new;
-        triangles.push(k.faces[old].map(|v| node_of[v as usize]));
-        material.push(pslg.zone_material[k.zone[old] as usize]);
+    for (new, &(_, packed)) in keyed.iter().enumerate() {
+        let (fi, k) = ((packed >> 32) as usize, (packed & 0xffff_ffff) as usize);
+        let (_, vs, z) = g.faces[k];
+        tri_of_face[fi] = new as u32;
+        triangles.push(vs.map(|v| node_of[v as usize]));
+        material.push(pslg.zone_material[z as usize]);
     }
     drop(keyed);
-    let mut boundary_edges = k.boundary;
-    for e in &mut boundary_edges {
-        e.nodes = e.nodes.map(|v| node_of[v]);
-        e.triangle = tri_new_of[e.triangle];
+    // Boundary edges in the order of their faces in the triangulation, then of the edges.
+    let mut bnd = g.boundary.clone();
+    bnd.sort_unstable();
+    let mut boundary_edges = Vec::with_capacity(bnd.len());
+    for (fi, slot, piece) in bnd {
+        let t = tri_of_face[fi as usize] as usize;
+        let p = &pslg.pieces[piece as usize];
+        let ring = p
+            .ring
+            .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
+        let slot = slot as usize;
+        boundary_edges.push(BoundaryEdge {
+            nodes: [triangles[t][slot], triangles[t][(slot + 1) % 3]],
+            boundary: p.boundary,
+            triangle: t,
+            ring,
+            segment: p.segment,
+        });
     }
     lap(&mut t, &mut timings.extract_s);
     let mut small_nodes = vec![false; nodes.len()];
