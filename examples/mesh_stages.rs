@@ -79,6 +79,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let mut cols: Vec<Vec<f64>> = vec![Vec::new(); head.len() - 2];
         let mut triangles = 0;
         let mut hashes = Vec::new();
+        let mut angles = (0.0, 0.0);
         for _ in 0..reps {
             let t0 = Instant::now();
             let mut m = mesh::Mesher::new(&prepared.section, &prepared.pslg, &opts)?;
@@ -88,6 +89,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             drop(m);
             triangles = mesh.triangles.len();
             hashes.push(mesh_hash(&mesh));
+            angles = (
+                mesh.stats.min_angle_deg,
+                mesh.stats.min_angle_away_from_small_input_angles_deg,
+            );
             let ours = t.total_s() - t.cdt_s - t.refine_s;
             let row = [
                 t.cdt_s,
@@ -114,7 +119,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         println!("| {triangles} | {reps} | {} |", m.join(" | "));
         hashes.dedup();
         let hashes: Vec<String> = hashes.iter().map(|h| format!("{h:016x}")).collect();
-        eprintln!("{triangles} triangles: mesh hash {}", hashes.join(" "));
+        eprintln!(
+            "{triangles} triangles: mesh hash {}, min angle {:.3}° ({:.3}° away from small input angles)",
+            hashes.join(" "),
+            angles.0,
+            angles.1
+        );
     }
     Ok(())
 }
