@@ -6,7 +6,12 @@
 //! `stage/refine` is the whole stage over spade's refinement alone, `ours%` the share of the
 //! stage spent in our passes after the triangulation (everything but `cdt` and `refine`).
 //!
-//! `cargo run --release --example mesh_stages [-- MAX_TRIANGLES [REPEATS]]` (defaults 1e6, 3).
+//! `spare%` counts the triangulation's vertices that the mesh does not keep (frame, holes,
+//! outside), per kept node.
+//!
+//! `cargo run --release --example mesh_stages [-- MAX_TRIANGLES [REPEATS]]` (defaults 1e6, 3);
+//! `cargo run --release --example mesh_stages -- --model FILE [REPEATS]` meshes a model file
+//! as written instead.
 //! The machine is noisy: compare medians and ratios. A hash of each mesh goes to stderr (one
 //! value when every repetition made the same mesh).
 use std::time::Instant;
@@ -49,8 +54,14 @@ fn median(mut v: Vec<f64>) -> f64 {
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let args: Vec<String> = std::env::args().collect();
+    let model_file = (args.get(1).map(String::as_str) == Some("--model")).then(|| args[2].clone());
+    let skip = if model_file.is_some() { 1 } else { 0 };
     let max: f64 = args.get(1).and_then(|s| s.parse().ok()).unwrap_or(1.0e6);
-    let reps: usize = args.get(2).and_then(|s| s.parse().ok()).unwrap_or(3).max(1);
+    let reps: usize = args
+        .get(2 + skip)
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(3)
+        .max(1);
     let head = [
         "triangles",
         "reps",
@@ -66,16 +77,31 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         "wall_s",
         "stage/refine",
         "ours%",
+        "spare%",
     ];
     println!("| {} |", head.join(" | "));
     println!("|{}", "---|".repeat(head.len()));
-    for target in [1.0e5, 3.0e5, 1.0e6, 2.0e6] {
-        if target > max * 1.0001 {
-            break;
-        }
-        let text = model_text(mesh::TRIANGLES_PER_AREA_LIMIT * area() / target);
-        let prepared = run::prepare_model(model::parse(&text)?)?;
-        let opts = mesh::MeshOptions::with_max_triangles(10 * target as usize)?;
+    let sizes: Vec<f64> = match model_file {
+        Some(_) => vec![0.0],
+        None => [1.0e5, 3.0e5, 1.0e6, 2.0e6]
+            .into_iter()
+            .filter(|&t| t <= max * 1.0001)
+            .collect(),
+    };
+    for target in sizes {
+        let (prepared, opts) = match &model_file {
+            Some(f) => (
+                run::prepare(std::path::Path::new(f))?,
+                mesh::MeshOptions::with_max_triangles(mesh::MAX_TRIANGLES_LIMIT)?,
+            ),
+            None => {
+                let text = model_text(mesh::TRIANGLES_PER_AREA_LIMIT * area() / target);
+                (
+                    run::prepare_model(model::parse(&text)?)?,
+                    mesh::MeshOptions::with_max_triangles(10 * target as usize)?,
+                )
+            }
+        };
         let mut cols: Vec<Vec<f64>> = vec![Vec::new(); head.len() - 2];
         let mut triangles = 0;
         let mut hashes = Vec::new();
@@ -86,6 +112,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             m.refine(None, &[])?;
             let (mesh, t) = m.mesh_timed()?;
             let wall = t0.elapsed().as_secs_f64();
+            let spare = m.triangulation_vertices() as f64 / mesh.nodes.len() as f64 - 1.0;
             drop(m);
             triangles = mesh.triangles.len();
             hashes.push(mesh_hash(&mesh));
@@ -107,6 +134,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 wall,
                 t.total_s() / t.refine_s,
                 100.0 * ours / t.total_s(),
+                100.0 * spare,
             ];
             for (c, v) in cols.iter_mut().zip(row) {
                 c.push(v);

@@ -11,6 +11,7 @@ use crate::error::{Error, Result};
 use crate::geom::{self, Point};
 use crate::geometry::Pslg;
 use crate::model::Section;
+use rayon::prelude::*;
 use spade::Triangulation;
 use std::time::Instant;
 
@@ -91,15 +92,17 @@ pub(super) fn extract(
         })
         .collect();
     let b = geom::bbox(all.iter().zip(&used).filter(|(_, u)| **u).map(|(p, _)| *p));
+    // Keys are distinct (the index breaks ties), so the parallel sort gives the one order
+    // whatever the thread count.
     let mut keyed: Vec<(u64, usize)> = all
-        .iter()
+        .par_iter()
         .zip(&used)
         .enumerate()
         .filter(|(_, (_, u))| **u)
         .map(|(i, (&p, _))| (spatial::morton_code(p, b), i))
         .collect();
     drop(used);
-    keyed.sort_unstable();
+    keyed.par_sort_unstable();
     let mut node_of = vec![UNUSED; all.len()];
     let mut nodes = Vec::with_capacity(keyed.len());
     for (new, &(_, v)) in keyed.iter().enumerate() {
@@ -111,7 +114,7 @@ pub(super) fn extract(
     // index (the order of the faces in the triangulation).
     let mut keyed: Vec<(u64, u64)> = g
         .faces
-        .iter()
+        .par_iter()
         .enumerate()
         .map(|(k, (fi, vs, _))| {
             let p = vs.map(|v| all[v as usize]);
@@ -126,7 +129,7 @@ pub(super) fn extract(
         })
         .collect();
     drop(all);
-    keyed.sort_unstable();
+    keyed.par_sort_unstable();
     let mut tri_of_face = vec![u32::MAX; cdt.num_all_faces()];
     let mut triangles = Vec::with_capacity(keyed.len());
     let mut material = Vec::with_capacity(keyed.len());

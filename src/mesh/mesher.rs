@@ -348,6 +348,12 @@ impl<'a> Mesher<'a> {
         self.estimate
     }
 
+    /// Vertices of the triangulation, frame and points outside the section included (what
+    /// spade's refinement made, against the nodes a [`Mesh`] keeps).
+    pub fn triangulation_vertices(&self) -> usize {
+        self.cdt.num_vertices()
+    }
+
     /// The current triangulation as a [`Mesh`].
     pub fn mesh(&self) -> Result<Mesh> {
         Ok(self.mesh_timed()?.0)
