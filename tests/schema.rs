@@ -57,6 +57,10 @@ fn example_models() -> Vec<(String, String)> {
     let mut out = Vec::new();
     for entry in std::fs::read_dir(repo_file("examples")).expect("read examples") {
         let path = entry.expect("entry").path();
+        // Subdirectories (code shared by examples, `examples/NAME/main.rs`) are left out.
+        if !path.is_file() {
+            continue;
+        }
         let text = std::fs::read_to_string(&path).expect("read example");
         let mut rest = text.as_str();
         while let Some(i) = rest.find(": &str = r#\"") {

@@ -1,62 +1,45 @@
 //! Turning the classified triangulation into a [`Mesh`]: the kept faces and their nodes, the
-//! triangles with their materials, the boundary edges with their names, and the statistics.
+//! triangles with their materials, the boundary edges with their names, all numbered in Morton
+//! order (as [`spatial::renumber`] would number them) without an intermediate numbering, and
+//! the statistics.
 
-use super::classify::{Classified, NO_PIECE};
+use super::classify::{Classified, Gathered, NO_PIECE};
+use super::mesher::lap;
 use super::quality::{self, SmallAngle};
-use super::{BoundaryEdge, Cdt, Mesh, spatial};
+use super::{BoundaryEdge, Cdt, Mesh, MeshTimings, spatial};
 use crate::error::{Error, Result};
-use crate::geom::Point;
-use crate::geometry::{Pslg, Zone};
+use crate::geom::{self, Point};
+use crate::geometry::Pslg;
 use crate::model::Section;
-use spade::handles::{FaceHandle, InnerTag};
-use spade::{CdtEdge, Point2, Triangulation};
+use rayon::prelude::*;
+use spade::Triangulation;
+use std::time::Instant;
 
-type Face<'a> = FaceHandle<'a, InnerTag, Point2<f64>, (), CdtEdge<()>, ()>;
+/// Marks a triangulation vertex of no kept face.
+const UNUSED: usize = usize::MAX;
 
-/// The faces in the section and the node number of each triangulation vertex
-/// (`usize::MAX` for vertices of no kept face), with the node coordinates.
-fn kept_faces<'a>(
-    cdt: &'a Cdt,
-    cl: &Classified,
-) -> Result<(Vec<Face<'a>>, Vec<usize>, Vec<Point>)> {
-    let mut node_of = vec![usize::MAX; cdt.num_vertices()];
-    let mut kept = Vec::new();
+/// One pass over the faces: the kept ones with their vertices and zones, and their edges whose
+/// other side is not kept (as the classification gathers them when it screens).
+fn gather(cdt: &Cdt, cl: &Classified) -> Result<Gathered> {
+    let mut g = Gathered::default();
     for f in cdt.inner_faces() {
-        if cl.face_zone[f.fix().index()].is_some() {
-            kept.push(f);
-            for v in f.vertices() {
-                node_of[v.fix().index()] = 0;
-            }
-        }
-    }
-    if kept.is_empty() {
-        return Err(Error::input("mesh: the section has no area"));
-    }
-    let mut nodes = Vec::new();
-    for v in cdt.vertices() {
-        let i = v.fix().index();
-        if node_of[i] == 0 {
-            node_of[i] = nodes.len();
-            let p = v.position();
-            nodes.push([p.x, p.y]);
-        }
-    }
-    Ok((kept, node_of, nodes))
-}
-
-/// Edges of kept faces whose other side is not kept, with their boundary names.
-fn boundary_edges(
-    pslg: &Pslg,
-    cl: &Classified,
-    kept: &[Face],
-    node_of: &[usize],
-) -> Result<Vec<BoundaryEdge>> {
-    let zone = |f: Face| -> Zone { cl.face_zone[f.fix().index()] };
-    let mut out = Vec::new();
-    for (t, f) in kept.iter().enumerate() {
-        for e in f.adjacent_edges() {
-            let other_kept = e.rev().face().as_inner().is_some_and(|n| zone(n).is_some());
-            if other_kept {
+        let fi = f.fix().index();
+        let Some(z) = cl.zone(fi) else {
+            continue;
+        };
+        let edges = f.adjacent_edges();
+        // spade's `vertices()`: the origins of `adjacent_edges()`, counter-clockwise.
+        g.faces.push((
+            fi as u32,
+            edges.map(|e| e.from().fix().index() as u32),
+            z as u32,
+        ));
+        for (slot, e) in edges.iter().enumerate() {
+            if e.rev()
+                .face()
+                .as_inner()
+                .is_some_and(|n| cl.kept(n.fix().index()))
+            {
                 continue;
             }
             let piece = cl.edge_piece[e.as_undirected().fix().index()];
@@ -65,23 +48,10 @@ fn boundary_edges(
                     "internal: section boundary edge is not a constraint",
                 ));
             }
-            let p = &pslg.pieces[piece as usize];
-            let ring = p
-                .ring
-                .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
-            out.push(BoundaryEdge {
-                nodes: [
-                    node_of[e.from().fix().index()],
-                    node_of[e.to().fix().index()],
-                ],
-                boundary: p.boundary,
-                triangle: t,
-                ring,
-                segment: p.segment,
-            });
+            g.boundary.push((fi as u32, slot as u8, piece));
         }
     }
-    Ok(out)
+    Ok(g)
 }
 
 /// Turn the classified triangulation into a [`Mesh`].
@@ -92,36 +62,109 @@ pub(super) fn extract(
     cl: &Classified,
     small: &[SmallAngle],
     to_cdt: &[usize],
+    timings: &mut MeshTimings,
 ) -> Result<Mesh> {
-    let (kept, node_of, nodes) = kept_faces(cdt, cl)?;
-    let mut triangles = Vec::with_capacity(kept.len());
-    let mut material = Vec::with_capacity(kept.len());
-    for f in &kept {
-        let vs = f.vertices();
-        triangles.push([
-            node_of[vs[0].fix().index()],
-            node_of[vs[1].fix().index()],
-            node_of[vs[2].fix().index()],
-        ]);
-        let zone = cl.face_zone[f.fix().index()]
-            .ok_or_else(|| Error::run("internal: kept face without zone"))?;
-        material.push(pslg.zone_material[zone]);
+    let mut t = Instant::now();
+    let own;
+    let g = match &cl.gathered {
+        Some(g) => g,
+        None => {
+            own = gather(cdt, cl)?;
+            &own
+        }
+    };
+    if g.faces.is_empty() {
+        return Err(Error::input("mesh: the section has no area"));
     }
-    let mut boundary_edges = boundary_edges(pslg, cl, &kept, &node_of)?;
-    let (mut nodes, mut node_of) = (nodes, node_of);
-    let new_of = spatial::renumber(spatial::Numbered {
-        nodes: &mut nodes,
-        triangles: &mut triangles,
-        material: &mut material,
-        boundary_edges: &mut boundary_edges,
-    });
-    for n in node_of.iter_mut().filter(|n| **n != usize::MAX) {
-        *n = new_of[*n];
+    let mut used = vec![false; cdt.num_vertices()];
+    for (_, vs, _) in &g.faces {
+        for &v in vs {
+            used[v as usize] = true;
+        }
     }
+    // Nodes in Morton order of their positions, ties by triangulation index (the order a
+    // numbering in vertex order gets from `spatial::renumber`).
+    let all: Vec<Point> = cdt
+        .vertices()
+        .map(|v| {
+            let p = v.position();
+            [p.x, p.y]
+        })
+        .collect();
+    let b = geom::bbox(all.iter().zip(&used).filter(|(_, u)| **u).map(|(p, _)| *p));
+    // Keys are distinct (the index breaks ties), so the parallel sort gives the one order
+    // whatever the thread count.
+    let mut keyed: Vec<(u64, usize)> = all
+        .par_iter()
+        .zip(&used)
+        .enumerate()
+        .filter(|(_, (_, u))| **u)
+        .map(|(i, (&p, _))| (spatial::morton_code(p, b), i))
+        .collect();
+    drop(used);
+    keyed.par_sort_unstable();
+    let mut node_of = vec![UNUSED; all.len()];
+    let mut nodes = Vec::with_capacity(keyed.len());
+    for (new, &(_, v)) in keyed.iter().enumerate() {
+        node_of[v] = new;
+        nodes.push(all[v]);
+    }
+    drop(keyed);
+    // Triangles in Morton order of their centroids (codes in the nodes' box), ties by face
+    // index (the order of the faces in the triangulation).
+    let mut keyed: Vec<(u64, u64)> = g
+        .faces
+        .par_iter()
+        .enumerate()
+        .map(|(k, (fi, vs, _))| {
+            let p = vs.map(|v| all[v as usize]);
+            let c = [
+                (p[0][0] + p[1][0] + p[2][0]) / 3.0,
+                (p[0][1] + p[1][1] + p[2][1]) / 3.0,
+            ];
+            (
+                spatial::morton_code(c, b),
+                (u64::from(*fi) << 32) | k as u64,
+            )
+        })
+        .collect();
+    drop(all);
+    keyed.par_sort_unstable();
+    let mut tri_of_face = vec![u32::MAX; cdt.num_all_faces()];
+    let mut triangles = Vec::with_capacity(keyed.len());
+    let mut material = Vec::with_capacity(keyed.len());
+    for (new, &(_, packed)) in keyed.iter().enumerate() {
+        let (fi, k) = ((packed >> 32) as usize, (packed & 0xffff_ffff) as usize);
+        let (_, vs, z) = g.faces[k];
+        tri_of_face[fi] = new as u32;
+        triangles.push(vs.map(|v| node_of[v as usize]));
+        material.push(pslg.zone_material[z as usize]);
+    }
+    drop(keyed);
+    // Boundary edges in the order of their faces in the triangulation, then of the edges.
+    let mut bnd = g.boundary.clone();
+    bnd.sort_unstable();
+    let mut boundary_edges = Vec::with_capacity(bnd.len());
+    for (fi, slot, piece) in bnd {
+        let t = tri_of_face[fi as usize] as usize;
+        let p = &pslg.pieces[piece as usize];
+        let ring = p
+            .ring
+            .ok_or_else(|| Error::run("internal: boundary edge on an interface"))?;
+        let slot = slot as usize;
+        boundary_edges.push(BoundaryEdge {
+            nodes: [triangles[t][slot], triangles[t][(slot + 1) % 3]],
+            boundary: p.boundary,
+            triangle: t,
+            ring,
+            segment: p.segment,
+        });
+    }
+    lap(&mut t, &mut timings.extract_s);
     let mut small_nodes = vec![false; nodes.len()];
     for &(pv, _, _) in small {
         let n = node_of[to_cdt[pv]];
-        if n != usize::MAX {
+        if n != UNUSED {
             small_nodes[n] = true;
         }
     }
@@ -134,6 +177,7 @@ pub(super) fn extract(
         &small_nodes,
         section.mesh.max_area,
     );
+    lap(&mut t, &mut timings.stats_s);
     let mut mesh = Mesh {
         nodes,
         triangles,
@@ -143,5 +187,6 @@ pub(super) fn extract(
         stats,
     };
     super::contact::split(section, &mut mesh);
+    lap(&mut t, &mut timings.contact_s);
     Ok(mesh)
 }

@@ -4,18 +4,21 @@
 //! centroids where the size controls still find triangles too large, circumcentres where the
 //! angle limit is still missed).
 
-use super::classify::{Classified, NO_PIECE, classify};
+use super::classify::{Classified, NO_PIECE, Screen, classify};
 use super::quality::{SmallAngle, centroid, longest_edge, small_input_angles};
 use super::{
     BOUNDARY_SIZE_FACTOR, Cdt, Constraint, MAX_ANGLE_PASSES, MAX_SIZE_PASSES, Mesh, MeshOptions,
-    SMALL_INPUT_ANGLE_FACTOR, SizeField, estimate_triangles, extract::extract, section_area,
+    MeshTimings, SMALL_INPUT_ANGLE_FACTOR, SizeField, estimate_triangles, extract::extract,
+    section_area,
 };
 use crate::error::{Error, Result};
 use crate::geom::{self, Point};
 use crate::geometry::Pslg;
 use crate::model::Section;
-use spade::handles::{FixedFaceHandle, InnerTag};
+use spade::CdtEdge;
+use spade::handles::{FaceHandle, FixedFaceHandle, InnerTag};
 use spade::{AngleLimit, Point2, PositionInTriangulation, RefinementParameters, Triangulation};
+use std::time::Instant;
 
 /// A triangulation being refined: keeps spade's triangulation between refinement steps, so a
 /// mesh can be refined further where an error indicator asks (adaptive refinement) without
@@ -34,6 +37,20 @@ pub struct Mesher<'a> {
     bbox_area: f64,
     min_area: f64,
     estimate: f64,
+    timings: MeshTimings,
+    parity_zones: bool,
+}
+
+type Face<'a> = FaceHandle<'a, InnerTag, Point2<f64>, (), CdtEdge<()>, ()>;
+
+/// Margin between the section's box and the frame, in edges of a triangle of `max_area`.
+const FRAME_MARGIN_EDGES: f64 = 2.0;
+
+/// Seconds since `t`, added to `acc`; restarts `t`.
+pub(super) fn lap(t: &mut Instant, acc: &mut f64) {
+    let now = Instant::now();
+    *acc += (now - *t).as_secs_f64();
+    *t = now;
 }
 
 /// Points in Morton order (ties by their position in `pts`): each insertion starts its walk
@@ -146,9 +163,16 @@ fn constraints(
 /// Four frame vertices around the section make the convex hull. Without them the hull runs
 /// along the outline, and a snapped crossing point that sits off its segment's line by
 /// round-off lies just inside a hull edge: refinement then splits that hull edge without end.
-fn add_frame(verts: &mut Vec<Point2<f64>>) {
+/// The frame keeps a margin of [`FRAME_MARGIN_EDGES`] edges of an equilateral triangle of area
+/// `max_area` (at most 2 %, at least 0.1 % of the box's diagonal): refinement fills the strip
+/// between frame and section too, so a wide strip costs triangles that are thrown away (with
+/// 2 % of the diagonal, some 14 % more vertices on a 2:1 box at 10⁶ triangles), and a strip
+/// much narrower than the mesh size fills with triangles of its width.
+fn add_frame(verts: &mut Vec<Point2<f64>>, max_area: f64) {
     let [x0, y0, x1, y1] = geom::bbox(verts.iter().map(|p| to_point(*p)));
-    let m = 0.02 * geom::distance([x0, y0], [x1, y1]);
+    let diag = geom::distance([x0, y0], [x1, y1]);
+    let edge = (4.0 * max_area / 3f64.sqrt()).sqrt();
+    let m = (FRAME_MARGIN_EDGES * edge).clamp(1e-3 * diag, 0.02 * diag);
     for (x, y) in [
         (x0 - m, y0 - m),
         (x1 + m, y0 - m),
@@ -157,6 +181,18 @@ fn add_frame(verts: &mut Vec<Point2<f64>>) {
     ] {
         verts.push(Point2::new(x, y));
     }
+}
+
+/// True when every piece has the section on exactly one side. Then the faces outside the
+/// section (in holes, between the outline and the frame) are exactly those that spade's
+/// `exclude_outer_faces` finds by parity (an even number of constraint crossings from the
+/// hull), and refinement may leave them alone. With regions, an interface between two
+/// materials has the section on both sides and parity would call a region outside; such
+/// sections refine everything (the zones always come from our own flood fill).
+fn parity_zones(pslg: &Pslg) -> bool {
+    pslg.pieces
+        .iter()
+        .all(|p| p.left.is_some() != p.right.is_some())
 }
 
 /// Bulk-loads the constrained triangulation, checking that no constraint conflicts and that
@@ -205,7 +241,7 @@ fn check_size_estimate(
 ) -> Result<f64> {
     let mut estimate = boundary;
     for f in cdt.inner_faces() {
-        if let Some(z) = classified.face_zone[f.fix().index()] {
+        if let Some(z) = classified.zone(f.fix().index()) {
             let p = positions(f.positions());
             estimate += estimate_triangles(geom::triangle_area(p[0], p[1], p[2]), zone_limit[z]);
         }
@@ -254,6 +290,8 @@ struct Inserts {
 impl<'a> Mesher<'a> {
     /// Triangulate the segment set (no refinement yet) and check the size estimate.
     pub fn new(section: &'a Section, pslg: &'a Pslg, opts: &MeshOptions) -> Result<Self> {
+        let mut timings = MeshTimings::default();
+        let mut t = Instant::now();
         let (used_list, to_cdt) = used_vertices(pslg);
         let mut verts: Vec<Point2<f64>> = used_list
             .iter()
@@ -264,17 +302,20 @@ impl<'a> Mesher<'a> {
         // Free vertices (point sources): spade keeps every vertex where it was inserted, so a
         // mesh node lies exactly at each.
         verts.extend(pslg.points.iter().map(|p| Point2::new(p[0], p[1])));
-        add_frame(&mut verts);
+        add_frame(&mut verts, section.mesh.max_area);
         let cdt = triangulate(&verts, &cons)?;
+        lap(&mut t, &mut timings.cdt_s);
         let small = small_input_angles(
             pslg,
             &used_list,
             SMALL_INPUT_ANGLE_FACTOR * section.mesh.min_angle,
         );
         let zone_limit = zone_limits(section, pslg);
-        let classified = classify(&cdt, pslg, &cons)?;
+        let classified = classify(&cdt, pslg, &cons, None)?;
+        lap(&mut t, &mut timings.classify_s);
         let estimate =
             check_size_estimate(section, &cdt, &classified, &zone_limit, boundary, opts)?;
+        lap(&mut t, &mut timings.scan_s);
         let [x0, y0, x1, y1] = geom::bbox(verts.iter().map(|p| to_point(*p)));
         // Triangles below `min_area` are left alone by the refinement. Snapped crossing points
         // sit off their segment's line by round-off, which leaves slivers of ~1e-16 relative
@@ -296,6 +337,8 @@ impl<'a> Mesher<'a> {
             bbox_area: (x1 - x0) * (y1 - y0),
             min_area: (1e-6 * diam).powi(2),
             estimate,
+            timings,
+            parity_zones: parity_zones(pslg),
         })
     }
 
@@ -305,22 +348,39 @@ impl<'a> Mesher<'a> {
         self.estimate
     }
 
+    /// Vertices of the triangulation, frame and points outside the section included (what
+    /// spade's refinement made, against the nodes a [`Mesh`] keeps).
+    pub fn triangulation_vertices(&self) -> usize {
+        self.cdt.num_vertices()
+    }
+
     /// The current triangulation as a [`Mesh`].
     pub fn mesh(&self) -> Result<Mesh> {
-        extract(
+        Ok(self.mesh_timed()?.0)
+    }
+
+    /// The current triangulation as a [`Mesh`], with the time spent in each pass so far
+    /// (triangulation, refinement and this extraction).
+    pub fn mesh_timed(&self) -> Result<(Mesh, MeshTimings)> {
+        let mut timings = self.timings;
+        let mesh = extract(
             self.section,
             self.pslg,
             &self.cdt,
             &self.classified,
             &self.small,
             &self.to_cdt,
-        )
+            &mut timings,
+        )?;
+        Ok((mesh, timings))
     }
 
     /// Insert `points` (e.g. centroids of triangles an error indicator marks), then refine until
     /// the angle limit, the area limits, the boundary sizes and the size field all hold.
     pub fn refine(&mut self, field: Option<&dyn SizeField>, points: &[Point]) -> Result<()> {
+        let mut t = Instant::now();
         self.insert_inside(points)?;
+        lap(&mut t, &mut self.timings.insert_s);
         let mut pass = 0;
         let mut angle_passes = 0;
         // Triangulation vertices at input angles too small for the angle limit.
@@ -330,9 +390,24 @@ impl<'a> Mesher<'a> {
         }
         loop {
             self.refine_pass()?;
-            self.classified = classify(&self.cdt, self.pslg, &self.cons)?;
+            lap(&mut t, &mut self.timings.refine_s);
+            // Without a size field or boundary sizes, the flood fill itself screens the faces
+            // for the area and angle limits; `inserts` then looks at the flagged ones only.
+            let screened = field.is_none() && !self.any_boundary_size();
+            let screen = Screen {
+                zone_limit: &self.zone_limit,
+                sin2_limit: self.sin2_limit(),
+            };
+            self.classified = classify(
+                &self.cdt,
+                self.pslg,
+                &self.cons,
+                screened.then_some(&screen),
+            )?;
+            lap(&mut t, &mut self.timings.classify_s);
             small_cdt.resize(self.cdt.num_vertices(), false);
             let mut ins = self.inserts(field, &small_cdt, angle_passes < MAX_ANGLE_PASSES);
+            lap(&mut t, &mut self.timings.scan_s);
             if ins.size.is_empty() && ins.angle.is_empty() {
                 break;
             }
@@ -345,6 +420,7 @@ impl<'a> Mesher<'a> {
             for c in in_morton_order(ins.size) {
                 insert(&mut self.cdt, c)?;
             }
+            lap(&mut t, &mut self.timings.insert_s);
         }
         Ok(())
     }
@@ -360,7 +436,7 @@ impl<'a> Mesher<'a> {
             .into_iter()
             .filter(|&q| {
                 matches!(self.cdt.locate(q), PositionInTriangulation::OnFace(g)
-                    if self.classified.face_zone[g.index()].is_some())
+                    if self.classified.kept(g.index()))
             })
             .collect();
         for q in inside {
@@ -383,7 +459,8 @@ impl<'a> Mesher<'a> {
             .with_angle_limit(AngleLimit::from_deg(section.mesh.min_angle))
             .with_max_allowed_area(max_area)
             .with_min_required_area(self.min_area)
-            .with_max_additional_vertices(budget);
+            .with_max_additional_vertices(budget)
+            .exclude_outer_faces(self.parity_zones);
         let before = cdt.num_vertices();
         let result = cdt.refine(params);
         if result.refinement_complete {
@@ -420,11 +497,22 @@ impl<'a> Mesher<'a> {
         advice.join("; ")
     }
 
+    /// True when some boundary has a `size`.
+    fn any_boundary_size(&self) -> bool {
+        self.section.boundaries.iter().any(|b| b.size.is_some())
+    }
+
+    /// sin² of the angle limit (a hair below, so triangles right at the limit pass).
+    fn sin2_limit(&self) -> f64 {
+        let min_angle = self.section.mesh.min_angle;
+        (min_angle * (1.0 - 1e-9)).to_radians().sin().powi(2)
+    }
+
     /// The smallest `size` of the sized boundaries through each triangulation vertex
     /// (infinite elsewhere); `None` when no boundary has a size.
     fn vertex_sizes(&self) -> Option<Vec<f64>> {
         let section = self.section;
-        if !section.boundaries.iter().any(|b| b.size.is_some()) {
+        if !self.any_boundary_size() {
             return None;
         }
         let mut vertex_size = vec![f64::INFINITY; self.cdt.num_vertices()];
@@ -454,50 +542,77 @@ impl<'a> Mesher<'a> {
         small_cdt: &[bool],
         angle_pass: bool,
     ) -> Inserts {
-        let min_angle = self.section.mesh.min_angle;
-        let sin2_limit = (min_angle * (1.0 - 1e-9)).to_radians().sin().powi(2);
         let vertex_size = self.vertex_sizes();
         let mut out = Inserts {
             size: Vec::new(),
             angle: Vec::new(),
         };
-        for f in self.cdt.inner_faces() {
-            let Some(z) = self.classified.face_zone[f.fix().index()] else {
-                continue;
-            };
-            let p = positions(f.positions());
-            let c = centroid(p);
-            let mut limit = self.zone_limit[z];
-            if let Some(field) = field {
-                limit = limit.min(field.max_area_at(c));
+        if field.is_none() && vertex_size.is_none() {
+            // The classification flagged every face that breaks a limit (in face order).
+            for &i in &self.classified.flagged {
+                let f = self.cdt.face(i);
+                self.judge(f, None, None, small_cdt, angle_pass, &mut out);
             }
-            let mut split = geom::triangle_area(p[0], p[1], p[2]) > limit * (1.0 + 1e-12);
-            if let (false, Some(vs)) = (split, &vertex_size) {
-                let s = f
-                    .vertices()
-                    .iter()
-                    .map(|v| vs[v.fix().index()])
-                    .fold(f64::INFINITY, f64::min);
-                split = s.is_finite() && longest_edge(p) > BOUNDARY_SIZE_FACTOR * s;
-            }
-            if split {
-                out.size.push(Point2::new(c[0], c[1]));
-                continue;
-            }
-            if angle_pass
-                && geom::min_angle_sin2(p) < sin2_limit
-                && !f.vertices().iter().any(|v| small_cdt[v.fix().index()])
-            {
-                let cc = f.circumcenter();
-                if let PositionInTriangulation::OnFace(g) = self.cdt.locate(cc)
-                    && self.classified.face_zone[g.index()].is_some()
-                    && !encroaches_nearby_constraint(&self.cdt, g, cc)
-                {
-                    out.angle.push(cc);
-                }
+        } else {
+            for f in self.cdt.inner_faces() {
+                self.judge(
+                    f,
+                    field,
+                    vertex_size.as_deref(),
+                    small_cdt,
+                    angle_pass,
+                    &mut out,
+                );
             }
         }
         out
+    }
+
+    /// One face for [`Self::inserts`]: its centroid when the size controls find it too large,
+    /// else its circumcentre when it is below the angle limit (and may be fixed there).
+    fn judge(
+        &self,
+        f: Face,
+        field: Option<&dyn SizeField>,
+        vertex_size: Option<&[f64]>,
+        small_cdt: &[bool],
+        angle_pass: bool,
+        out: &mut Inserts,
+    ) {
+        let Some(z) = self.classified.zone(f.fix().index()) else {
+            return;
+        };
+        let p = positions(f.positions());
+        let c = centroid(p);
+        let mut limit = self.zone_limit[z];
+        if let Some(field) = field {
+            limit = limit.min(field.max_area_at(c));
+        }
+        let mut split = geom::triangle_area(p[0], p[1], p[2]) > limit * (1.0 + 1e-12);
+        if let (false, Some(vs)) = (split, vertex_size) {
+            let s = f
+                .vertices()
+                .iter()
+                .map(|v| vs[v.fix().index()])
+                .fold(f64::INFINITY, f64::min);
+            split = s.is_finite() && longest_edge(p) > BOUNDARY_SIZE_FACTOR * s;
+        }
+        if split {
+            out.size.push(Point2::new(c[0], c[1]));
+            return;
+        }
+        if angle_pass
+            && geom::min_angle_sin2(p) < self.sin2_limit()
+            && !f.vertices().iter().any(|v| small_cdt[v.fix().index()])
+        {
+            let cc = f.circumcenter();
+            if let PositionInTriangulation::OnFace(g) = self.cdt.locate(cc)
+                && self.classified.kept(g.index())
+                && !encroaches_nearby_constraint(&self.cdt, g, cc)
+            {
+                out.angle.push(cc);
+            }
+        }
     }
 
     /// Refuses to go on after too many passes or beyond the triangle limit.

@@ -130,6 +130,45 @@ impl Mesh {
     }
 }
 
+/// Wall-clock seconds spent in each pass of the mesh stage (for benchmarks: the example
+/// `mesh_stages` prints them; never written to result files).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct MeshTimings {
+    /// Building the segment set's vertices and constraints and spade's bulk load of the
+    /// constrained Delaunay triangulation.
+    pub cdt_s: f64,
+    /// spade's refinement (all passes).
+    pub refine_s: f64,
+    /// Our classification of the triangulation (constraint pieces and face zones), all passes.
+    pub classify_s: f64,
+    /// The size estimate and the scans for triangles the size controls or the angle limit
+    /// still find wanting (all passes).
+    pub scan_s: f64,
+    /// Inserting the points those scans ask for.
+    pub insert_s: f64,
+    /// Extracting the kept faces, nodes, triangles and boundary edges (with the Morton
+    /// renumbering).
+    pub extract_s: f64,
+    /// Quality statistics.
+    pub stats_s: f64,
+    /// Splitting contact interfaces.
+    pub contact_s: f64,
+}
+
+impl MeshTimings {
+    /// Sum of all passes, s.
+    pub fn total_s(&self) -> f64 {
+        self.cdt_s
+            + self.refine_s
+            + self.classify_s
+            + self.scan_s
+            + self.insert_s
+            + self.extract_s
+            + self.stats_s
+            + self.contact_s
+    }
+}
+
 type Cdt = spade::ConstrainedDelaunayTriangulation<spade::Point2<f64>>;
 
 /// Triangles per `area / max_area` of a quality mesh (Delaunay refinement leaves triangles of
