@@ -19,6 +19,7 @@
 //! temperatures. After every solve the relative residual of the reduced system
 //! is recomputed as a self-check.
 
+pub mod amg;
 pub mod cg;
 pub mod cholesky;
 pub mod factorized;
@@ -27,6 +28,7 @@ pub mod ordering;
 #[cfg(test)]
 mod tests;
 
+pub use amg::AmgSolver;
 pub use cg::ConjugateGradient;
 pub use cholesky::{Ordering, SparseCholesky, to_faer};
 pub use factorized::Factorized;
