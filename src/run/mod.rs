@@ -36,6 +36,9 @@ pub struct Prepared {
     pub pslg: Pslg,
     /// How a nonlinear model is iterated (`solve --nonlinear`; ignored by a linear model).
     pub nonlinear: solve::nonlinear::Method,
+    /// The solver of a linear model's reduced system (`solve --solver`; a nonlinear model
+    /// keeps its own factorisations).
+    pub solver: solve::SolverChoice,
 }
 
 impl Prepared {
@@ -60,6 +63,7 @@ pub fn prepare(path: &Path) -> Result<Prepared> {
         section,
         pslg,
         nonlinear: Default::default(),
+        solver: Default::default(),
     })
 }
 
@@ -72,6 +76,7 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
         section,
         pslg,
         nonlinear: Default::default(),
+        solver: Default::default(),
     })
 }
 
@@ -153,6 +158,8 @@ pub struct Solved {
     pub timings: Timings,
     /// The nonlinear iteration (method, history), `None` for a linear model.
     pub nonlinear: Option<solve::nonlinear::Outcome>,
+    /// How the base case's reduced system was solved; `None` for a nonlinear model.
+    pub solver: Option<solve::SolverRecord>,
     /// The files of a mesh made elsewhere (`solve --mesh`: the .vtu and the optional
     /// boundary .vtp) as given; `None` when the model was meshed here.
     pub mesh_files: Option<(String, Option<String>)>,
@@ -257,8 +264,15 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
     crate::progress::stage("solving");
-    let factor = solve::Factorized::with_coordinates(&system, &mesh.nodes)?;
+    let factor = solve::Factorized::for_mesh(&system, &mesh.nodes, prepared.solver)?;
     let solution = factor.solve(&system.load, &system.fixed)?;
+    let (used, iterations) = factor.used();
+    let solver = solve::SolverRecord {
+        requested: prepared.solver,
+        used,
+        unknowns: factor.unknowns(),
+        iterations,
+    };
     let t3 = Instant::now();
     crate::progress::stage("post-processing");
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
@@ -318,6 +332,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             ..Timings::default()
         },
         nonlinear: None,
+        solver: Some(solver),
         mesh_files: None,
     })
 }
