@@ -264,8 +264,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
     crate::progress::stage("solving");
-    let factor = solve::Factorized::for_mesh(&system, &mesh.nodes, prepared.solver)?;
-    let solution = factor.solve(&system.load, &system.fixed)?;
+    let (factor, solution, fallback) = solve_reduced(&system, &mesh, prepared.solver)?;
     let (used, iterations) = factor.used();
     let solver = solve::SolverRecord {
         requested: prepared.solver,
@@ -279,6 +278,7 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
+    warnings.extend(fallback);
     warnings.extend(crate::mesh::contact::unmet_warnings(
         &prepared.section,
         &mesh,
@@ -335,6 +335,41 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
         solver: Some(solver),
         mesh_files: None,
     })
+}
+
+/// Prepares the reduced system of `system` by the solver `choice` resolves to and solves its
+/// own load case. Under `auto`, a multigrid solve that fails (conjugate gradient not converging)
+/// is repeated by Cholesky, with the warning returned.
+fn solve_reduced(
+    system: &System,
+    mesh: &Mesh,
+    choice: solve::SolverChoice,
+) -> Result<(
+    solve::Factorized<solve::PipelineSolver>,
+    Solution,
+    Option<String>,
+)> {
+    let factor = solve::Factorized::for_mesh(system, &mesh.nodes, choice)?;
+    match factor.solve(&system.load, &system.fixed) {
+        Ok(solution) => Ok((factor, solution, None)),
+        Err(e)
+            if choice == solve::SolverChoice::Auto
+                && factor.used().0 == solve::SolverChoice::Amg =>
+        {
+            drop(factor);
+            let factor =
+                solve::Factorized::for_mesh(system, &mesh.nodes, solve::SolverChoice::Cholesky)?;
+            let solution = factor.solve(&system.load, &system.fixed)?;
+            Ok((
+                factor,
+                solution,
+                Some(format!(
+                    "solver: {e}; solved by sparse Cholesky instead (--solver cholesky skips the attempt)"
+                )),
+            ))
+        }
+        Err(e) => Err(e),
+    }
 }
 
 /// One cycle of adaptive refinement.

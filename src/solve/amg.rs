@@ -535,9 +535,9 @@ impl AmgSolver {
         let (head, tail) = w.b.split_at_mut(l + 1);
         let (b, coarse_b) = (&head[l], &mut tail[0]);
         coarse_b.fill(0.0);
-        for i in 0..a.rows {
+        for (i, bi) in b.iter().enumerate() {
             let (c, v) = a.row(i);
-            let ri = b[i]
+            let ri = bi
                 - c.iter()
                     .zip(v)
                     .map(|(&j, y)| y * x[j as usize])
@@ -657,19 +657,18 @@ mod tests {
     /// The reduced system of a 1 × 0.8 m plate of two materials (k = 1.4 and 35 W/(m·K)),
     /// fixed on top, convection below, on an `n × n` grid of right triangles.
     fn plate(n: usize) -> (CsMat<f64>, Vec<f64>) {
+        plate_with(n, [1.4, 35.0], 12.0)
+    }
+
+    /// [`plate`] with conductivities `k` and film coefficient `h`.
+    fn plate_with(n: usize, k: [f64; 2], h: f64) -> (CsMat<f64>, Vec<f64>) {
         let tags = [Some(0), Some(1), Some(2), Some(1)];
         let section = rectangle_section(
             1.0,
             0.8,
-            &[("a", 1.4, 2000.0), ("b", 35.0, 0.0)],
+            &[("a", k[0], 2000.0), ("b", k[1], 0.0)],
             &[
-                (
-                    "air",
-                    BoundaryKind::Convection {
-                        h: 12.0,
-                        ambient: -3.0,
-                    },
-                ),
+                ("air", BoundaryKind::Convection { h, ambient: -3.0 }),
                 ("side", BoundaryKind::Insulated),
                 ("top", BoundaryKind::Fixed { temperature: 40.0 }),
             ],
@@ -708,6 +707,25 @@ mod tests {
         let mut r = vec![0.0; f.len()];
         amg.fine_matrix().residual(&f, &x, &mut r);
         assert!(amg.backward_error(&r, &x, &f) <= amg.backward_error_tolerance);
+    }
+
+    #[test]
+    fn high_contrast_and_stiff_films_converge_to_the_cholesky_solution() {
+        // Insulation against steel (k 0.03 and 50 W/(m·K)) and a film of 10⁶ W/(m²·K): the
+        // aggregates follow the strong couplings; iterations stay moderate (common practice).
+        for (k, h) in [([0.03, 50.0], 12.0), ([1.4, 35.0], 1e6), ([1e-3, 1e3], 1e4)] {
+            let (kk, f) = plate_with(120, k, h);
+            let amg = AmgSolver::new(&kk).unwrap();
+            let mut x = f.clone();
+            amg.solve_in_place(&mut x).unwrap();
+            assert!(
+                amg.last_iterations() < 60,
+                "{k:?} {h}: {}",
+                amg.last_iterations()
+            );
+            let d = relative_difference(&x, &cholesky(&kk, &f));
+            assert!(d < 1e-9, "{k:?} {h}: {d:e}");
+        }
     }
 
     #[test]
