@@ -2,26 +2,23 @@
 //!
 //! The Dirichlet values are lifted out: with free nodes `f` and fixed nodes `c`, the reduced
 //! symmetric positive definite system `K_ff·T_f = f_f − K_fc·T_c` is solved by a
-//! [`LinearSolver`] — a sparse Cholesky factorisation (faer, [`cholesky`]) by default, or a
+//! [`LinearSolver`] — a sparse Cholesky factorisation (faer, [`cholesky`]), conjugate gradient
+//! preconditioned by smoothed aggregation algebraic multigrid ([`amg`]), or (tests only) a
 //! Jacobi preconditioned conjugate gradient ([`cg`]). [`Factorized`] ([`factorized`]) keeps
-//! the factorisation so further load vectors or Dirichlet value sets (same fixed nodes) are
-//! solved without refactoring. Matrices stay in sprs storage throughout; the one conversion
-//! into faer's is [`to_faer`], at the factorisation.
+//! the prepared solver so further load vectors or Dirichlet value sets (same fixed nodes) are
+//! solved without refactoring (load cases, environments). Matrices stay in sprs storage
+//! throughout; the one conversion into faer's is [`to_faer`], at the factorisation.
 //!
-//! [`LinearSolver`], [`ConjugateGradient`] and [`Factorized`] are used only by the tests today
-//! (the pipeline calls [`solve_system`]); they are kept for load cases, which a later change
-//! gives a command-line interface.
-//!
-//! The pipeline solves by [`PipelineSolver`] as [`SolverChoice`] says (`solve --solver`):
-//! sparse Cholesky, or for large systems conjugate gradient preconditioned by smoothed
-//! aggregation algebraic multigrid ([`amg`]), which needs a fraction of the factor's memory.
+//! The pipeline solves by [`PipelineSolver`] as [`SolverChoice`] says (`solve --solver`,
+//! [`Factorized::for_mesh`]): sparse Cholesky, or from [`AMG_FROM_UNKNOWNS`] unknowns on
+//! AMG-PCG, which needs a third of the factor's memory or less in about the same time.
 //!
 //! The pipeline orders the factorisation by a geometric nested dissection of the mesh
 //! ([`ordering`], [`Factorized::with_coordinates`]); without coordinates faer's AMD is used.
 //! The numeric factorisation runs sequentially (`faer::Par::Seq`) in a fixed order and the
 //! ordering does not depend on the thread count, so repeated runs give byte-identical
-//! temperatures. After every solve the relative residual of the reduced system
-//! is recomputed as a self-check.
+//! temperatures; the multigrid solver runs sequentially too. After every solve the relative
+//! residual of the reduced system is recomputed as a self-check.
 
 pub mod amg;
 pub mod cg;
