@@ -100,6 +100,11 @@ fn amg_files_are_the_same_whatever_the_thread_count() {
     let (one, _d1, out1) = solve_text(&model, &["--solver", "amg", "--threads", "1"]);
     let (two, _d2, out2) = solve_text(&model, &["--solver", "amg", "--threads", "2"]);
     assert_eq!((one.code, two.code), (0, 0), "{}{}", one.stderr, two.stderr);
+    assert!(
+        one.stdout.contains("solver: smoothed aggregation AMG"),
+        "{}",
+        one.stdout
+    );
     for f in ["field.vtu", "nodes.csv", "boundaries.csv"] {
         assert_eq!(
             std::fs::read(out1.join(f)).unwrap(),
