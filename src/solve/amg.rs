@@ -492,11 +492,12 @@ impl AmgSolver {
         self.iterations.load(AtomicOrdering::Relaxed)
     }
 
-    fn fine_matrix(&self) -> &Csr {
-        self.levels.first().map_or_else(
-            || self.fine.as_ref().expect("no levels: fine kept"),
-            |l| &l.a,
-        )
+    fn fine_matrix(&self) -> Result<&Csr> {
+        self.levels
+            .first()
+            .map(|l| &l.a)
+            .or(self.fine.as_ref())
+            .ok_or_else(|| Error::run("internal error: multigrid without its finest matrix"))
     }
 
     fn work(&self) -> Work {
@@ -595,7 +596,7 @@ impl LinearSolver for AmgSolver {
         if rhs.iter().all(|&v| v == 0.0) {
             return Ok(());
         }
-        let a = self.fine_matrix();
+        let a = self.fine_matrix()?;
         let b = rhs.to_vec();
         let mut w = self.work();
         let mut x = vec![0.0; n];
@@ -705,7 +706,7 @@ mod tests {
         amg.solve_in_place(&mut x).unwrap();
         assert!(relative_difference(&x, &cholesky(&k, &f)) < 1e-9);
         let mut r = vec![0.0; f.len()];
-        amg.fine_matrix().residual(&f, &x, &mut r);
+        amg.fine_matrix().unwrap().residual(&f, &x, &mut r);
         assert!(amg.backward_error(&r, &x, &f) <= amg.backward_error_tolerance);
     }
 
