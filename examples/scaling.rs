@@ -5,8 +5,9 @@
 //! (VmHWM) is that size's own. Prints triangles, nodes, the median time per stage, total, peak
 //! RSS, bytes per triangle and the growth exponent of the total.
 //!
-//! `cargo run --release --example scaling [-- MAX_TRIANGLES]` (default 2e6). The machine is
-//! noisy: compare medians and ratios.
+//! `cargo run --release --example scaling [-- MAX_TRIANGLES [SOLVER]]` (default 2e6, `auto`;
+//! SOLVER as `solve --solver`: auto, cholesky, amg). The machine is noisy: compare medians and
+//! ratios.
 use std::process::Command;
 use std::time::Instant;
 use xsheat::{model, output, run};
@@ -24,12 +25,13 @@ fn peak_rss_mib() -> Option<f64> {
 }
 
 /// One end-to-end run; prints `triangles nodes parse mesh assemble solve post write total rss`.
-fn child(target: f64) -> Result<(), xsheat::Error> {
+fn child(target: f64, solver: &str) -> Result<(), xsheat::Error> {
     let dir = tempfile::tempdir().map_err(|e| xsheat::Error::run(e.to_string()))?;
     let out = dir.path().join("result");
     let t0 = Instant::now();
     let text = model_text(xsheat::mesh::TRIANGLES_PER_AREA_LIMIT * area() / target);
-    let prepared = run::prepare_model(model::parse(&text)?)?;
+    let mut prepared = run::prepare_model(model::parse(&text)?)?;
+    prepared.solver = xsheat::solve::SolverChoice::parse(solver)?;
     let t1 = Instant::now();
     let opts = xsheat::mesh::MeshOptions::with_max_triangles(10 * target as usize)?;
     let solved = run::solve(prepared, &opts)?;
@@ -62,9 +64,10 @@ fn median(mut v: Vec<f64>) -> f64 {
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let args: Vec<String> = std::env::args().collect();
     if args.get(1).map(String::as_str) == Some("--child") {
-        return Ok(child(args[2].parse()?)?);
+        return Ok(child(args[2].parse()?, &args[3])?);
     }
     let max: f64 = args.get(1).and_then(|s| s.parse().ok()).unwrap_or(2.0e6);
+    let solver = args.get(2).map_or("auto", String::as_str);
     let exe = std::env::current_exe()?;
     let head = [
         "triangles",
@@ -96,7 +99,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let mut cols: Vec<Vec<f64>> = vec![Vec::new(); 10];
         for _ in 0..reps {
             let o = Command::new(&exe)
-                .args(["--child", &target.to_string()])
+                .args(["--child", &target.to_string(), solver])
                 .output()?;
             if !o.status.success() {
                 return Err(String::from_utf8_lossy(&o.stderr).into_owned().into());

@@ -215,6 +215,11 @@ struct SolveArgs {
     /// (lagged conductivity, symmetric, Cholesky) or newton (full Jacobian, LU with tables).
     #[arg(long, value_name = "METHOD", default_value = "picard")]
     nonlinear: String,
+    /// Solver of a linear model's reduced system: cholesky (sparse direct), amg (conjugate
+    /// gradient preconditioned by smoothed aggregation multigrid: a fraction of the memory),
+    /// or auto (amg from 250000 unknowns on, about 500000 triangles).
+    #[arg(long, value_name = "SOLVER", default_value = "auto")]
+    solver: String,
     /// Solve on this triangle mesh (VTK .vtu with a `material` cell array of the model's
     /// material ids) instead of meshing the model.
     #[arg(long, value_name = "FILE", conflicts_with = "target_error")]
@@ -410,6 +415,7 @@ fn mesh(a: MeshArgs, con: &Console) -> xsheat::Result<()> {
 fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let o = a.limit.options()?;
     let method = xsheat::solve::nonlinear::Method::parse(&a.nonlinear)?;
+    let solver = xsheat::solve::SolverChoice::parse(&a.solver)?;
     if let Some(e) = a.target_error {
         adaptive::check_target_error(e)?;
     }
@@ -427,6 +433,7 @@ fn solve(a: SolveArgs, con: &Console) -> xsheat::Result<()> {
     let parse_started = std::time::Instant::now();
     let mut p = run::prepare(&a.model)?;
     p.nonlinear = method;
+    p.solver = solver;
     let parse_s = parse_started.elapsed().as_secs_f64();
     let mut refused = inputs(&a.model, &p);
     refused.extend(a.mesh.iter().chain(&a.mesh_boundary).map(PathBuf::as_path));

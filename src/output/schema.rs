@@ -36,7 +36,7 @@ pub fn schema_text(kind: &str) -> Result<String> {
 
 /// The top-level keys of summary.json: name, JSON type, meaning and unit, and whether the key
 /// is always present (the others appear with the feature named).
-const SUMMARY_KEYS: [(&str, &str, &str, bool); 34] = [
+const SUMMARY_KEYS: [(&str, &str, &str, bool); 35] = [
     (
         "version",
         "string",
@@ -207,6 +207,12 @@ const SUMMARY_KEYS: [(&str, &str, &str, bool); 34] = [
         "adaptivity",
         "array",
         "With --target-error: the refinement cycles.",
+        false,
+    ),
+    (
+        "solver",
+        "object",
+        "For a linear model: the solver of the reduced system as requested (auto, cholesky, amg) and used (cholesky, amg), its unknowns and conjugate gradient iterations.",
         false,
     ),
     (

@@ -152,6 +152,7 @@ pub(crate) fn finish_solve_set(
                 model: &model,
                 coupling: sv.coupling.as_ref(),
                 nonlinear: sv.nonlinear.as_ref(),
+                solver: sv.solver.as_ref(),
                 mesh_files: sv.mesh_files.as_ref(),
             },
             &files,

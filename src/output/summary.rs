@@ -43,6 +43,9 @@ pub struct SummaryInputs<'a> {
     /// The nonlinear iteration (method, factorisation, tolerance, history; `None` for a linear
     /// model: then no `nonlinear` key).
     pub nonlinear: Option<&'a crate::solve::nonlinear::Outcome>,
+    /// How a linear model's reduced system was solved (`None` for a nonlinear model: then no
+    /// `solver` key).
+    pub solver: Option<&'a crate::solve::SolverRecord>,
     /// The mesh file and boundary file of `solve --mesh` as given (`None` when the model was
     /// meshed here: then no `mesh_file` key).
     pub mesh_files: Option<&'a (String, Option<String>)>,
@@ -359,6 +362,8 @@ struct Summary<'a> {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     adaptivity: Vec<CycleOut>,
     #[serde(skip_serializing_if = "Option::is_none")]
+    solver: Option<&'a crate::solve::SolverRecord>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     nonlinear: Option<&'a crate::solve::nonlinear::Outcome>,
     warnings: &'a [String],
     checks: Vec<CheckOut<'a>>,
@@ -637,6 +642,7 @@ fn summary_bytes(inputs: &SummaryInputs<'_>, files: Option<&[ManifestEntry]>) ->
             .map(|c| super::coupling::coupling_out(section, c)),
         error_estimate: ErrorEstimateOut::from(inputs.error_estimate),
         adaptivity: cycles(inputs.adaptivity),
+        solver: inputs.solver,
         nonlinear: inputs.nonlinear,
         warnings: inputs.warnings,
         checks: checks(inputs.checks),

@@ -377,6 +377,7 @@ fn summary_has_keys_in_order() {
         model: &model,
         coupling: None,
         nonlinear: None,
+        solver: None,
         mesh_files: None,
     };
     let files = [ManifestEntry::of("nodes.csv", b"node\n")];
@@ -499,6 +500,7 @@ fn summary_lists_adaptive_cycles() {
         model: &Value::Null,
         coupling: None,
         nonlinear: None,
+        solver: None,
         mesh_files: None,
     })
     .unwrap();

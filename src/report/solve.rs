@@ -230,6 +230,16 @@ pub fn solve_report(sv: &Solved) -> String {
     if let Some(n) = &sv.nonlinear {
         nonlinear_lines(&mut o, n);
     }
+    if let Some(v) = sv
+        .solver
+        .filter(|v| v.used == crate::solve::SolverChoice::Amg)
+    {
+        let _ = writeln!(
+            o,
+            "solver: smoothed aggregation AMG preconditioned conjugate gradient, {} unknowns, {} iterations",
+            v.unknowns, v.iterations
+        );
+    }
     checks_table(&mut o, &sv.checks);
     o
 }

@@ -10,7 +10,7 @@ use crate::fem::{self, LoadCase, System};
 use crate::mesh::Mesh;
 use crate::model::Section;
 use crate::post::{self, Results};
-use crate::solve::{self, Factorized, Solution};
+use crate::solve::{self, Factorized, PipelineSolver, Solution};
 use serde::Serialize;
 
 /// How a case's system was solved.
@@ -67,7 +67,7 @@ pub fn solve_cases(
     section: &Section,
     mesh: &Mesh,
     base: &System,
-    factor: &Factorized,
+    factor: &Factorized<PipelineSolver>,
 ) -> Result<Vec<CaseSolved>> {
     let locator = post::Locator::new(mesh);
     (0..section.cases.len())
@@ -80,7 +80,7 @@ pub fn solve_case(
     section: &Section,
     mesh: &Mesh,
     base: &System,
-    factor: &Factorized,
+    factor: &Factorized<PipelineSolver>,
     i: usize,
 ) -> Result<CaseSolved> {
     solve_case_located(section, mesh, base, factor, i, &post::Locator::new(mesh))
@@ -91,7 +91,7 @@ fn solve_case_located(
     section: &Section,
     mesh: &Mesh,
     base: &System,
-    factor: &Factorized,
+    factor: &Factorized<PipelineSolver>,
     i: usize,
     locator: &post::Locator,
 ) -> Result<CaseSolved> {
@@ -103,7 +103,7 @@ fn solve_case_located(
     };
     let (factorisation, system, solution) = if section.case_changes_matrix(i) {
         let system = fem::assemble(&cs, mesh)?;
-        let solution = solve::Factorized::with_coordinates(&system, &mesh.nodes)?
+        let solution = solve::Factorized::for_mesh(&system, &mesh.nodes, factor.used().0)?
             .solve(&system.load, &system.fixed)?;
         (Factorisation::Refactorised, system, solution)
     } else {

@@ -24,7 +24,7 @@ use crate::mesh::Mesh;
 use crate::model::Section;
 use crate::post::Results;
 use crate::post::flows::boundary_results;
-use crate::solve::Factorized;
+use crate::solve::{Factorized, PipelineSolver};
 use serde::Serialize;
 
 /// Largest accepted relative difference between L_kj and L_jk.
@@ -115,7 +115,7 @@ pub fn coupling(
     section: &Section,
     mesh: &Mesh,
     system: &System,
-    factor: &Factorized,
+    factor: &Factorized<PipelineSolver>,
     base: &Results,
 ) -> Result<Option<(Coupling, Check, Vec<String>)>> {
     let envs = &section.environments;

@@ -36,6 +36,9 @@ pub struct Prepared {
     pub pslg: Pslg,
     /// How a nonlinear model is iterated (`solve --nonlinear`; ignored by a linear model).
     pub nonlinear: solve::nonlinear::Method,
+    /// The solver of a linear model's reduced system (`solve --solver`; a nonlinear model
+    /// keeps its own factorisations).
+    pub solver: solve::SolverChoice,
 }
 
 impl Prepared {
@@ -60,6 +63,7 @@ pub fn prepare(path: &Path) -> Result<Prepared> {
         section,
         pslg,
         nonlinear: Default::default(),
+        solver: Default::default(),
     })
 }
 
@@ -72,6 +76,7 @@ pub fn prepare_model(model: ModelFile) -> Result<Prepared> {
         section,
         pslg,
         nonlinear: Default::default(),
+        solver: Default::default(),
     })
 }
 
@@ -153,6 +158,8 @@ pub struct Solved {
     pub timings: Timings,
     /// The nonlinear iteration (method, history), `None` for a linear model.
     pub nonlinear: Option<solve::nonlinear::Outcome>,
+    /// How the base case's reduced system was solved; `None` for a nonlinear model.
+    pub solver: Option<solve::SolverRecord>,
     /// The files of a mesh made elsewhere (`solve --mesh`: the .vtu and the optional
     /// boundary .vtp) as given; `None` when the model was meshed here.
     pub mesh_files: Option<(String, Option<String>)>,
@@ -257,14 +264,27 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
     let system = fem::assemble(&prepared.section, &mesh)?;
     let t2 = Instant::now();
     crate::progress::stage("solving");
-    let factor = solve::Factorized::with_coordinates(&system, &mesh.nodes)?;
-    let solution = factor.solve(&system.load, &system.fixed)?;
+    // Load cases and environments solve many right-hand sides on the one prepared solver: a
+    // Cholesky re-solve costs a seventh of an AMG-PCG one (README "Performance"), so `auto`
+    // keeps the factorisation for them.
+    let choice = prepared.solver.for_right_hand_sides(
+        !prepared.section.cases.is_empty() || !prepared.section.environments.is_empty(),
+    );
+    let (factor, solution, fallback) = solve_reduced(&system, &mesh, choice)?;
+    let (used, iterations) = factor.used();
+    let solver = solve::SolverRecord {
+        requested: prepared.solver,
+        used,
+        unknowns: factor.unknowns(),
+        iterations,
+    };
     let t3 = Instant::now();
     crate::progress::stage("post-processing");
     let results = post::postprocess(&prepared.section, &mesh, &system, &solution)?;
     let error_estimate = estimate::zz_estimate(&prepared.section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
+    warnings.extend(fallback);
     warnings.extend(crate::mesh::contact::unmet_warnings(
         &prepared.section,
         &mesh,
@@ -318,8 +338,44 @@ pub fn solve_mesh(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<Solved>
             ..Timings::default()
         },
         nonlinear: None,
+        solver: Some(solver),
         mesh_files: None,
     })
+}
+
+/// Prepares the reduced system of `system` by the solver `choice` resolves to and solves its
+/// own load case. Under `auto`, a multigrid solve that fails (conjugate gradient not converging)
+/// is repeated by Cholesky, with the warning returned.
+fn solve_reduced(
+    system: &System,
+    mesh: &Mesh,
+    choice: solve::SolverChoice,
+) -> Result<(
+    solve::Factorized<solve::PipelineSolver>,
+    Solution,
+    Option<String>,
+)> {
+    let factor = solve::Factorized::for_mesh(system, &mesh.nodes, choice)?;
+    match factor.solve(&system.load, &system.fixed) {
+        Ok(solution) => Ok((factor, solution, None)),
+        Err(e)
+            if choice == solve::SolverChoice::Auto
+                && factor.used().0 == solve::SolverChoice::Amg =>
+        {
+            drop(factor);
+            let factor =
+                solve::Factorized::for_mesh(system, &mesh.nodes, solve::SolverChoice::Cholesky)?;
+            let solution = factor.solve(&system.load, &system.fixed)?;
+            Ok((
+                factor,
+                solution,
+                Some(format!(
+                    "solver: {e}; solved by sparse Cholesky instead (--solver cholesky skips the attempt)"
+                )),
+            ))
+        }
+        Err(e) => Err(e),
+    }
 }
 
 /// One cycle of adaptive refinement.

@@ -50,6 +50,11 @@ pub fn solve_nonlinear(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<So
     let error_estimate = estimate::zz_estimate(section, &mesh, &system, &results)?;
     let t4 = Instant::now();
     let mut warnings = prepared.warnings();
+    if prepared.solver == solve::SolverChoice::Amg {
+        warnings.push(
+            "--solver amg applies to linear models; this nonlinear model is solved by its own factorisations (--nonlinear)".into(),
+        );
+    }
     warnings.extend(crate::mesh::contact::unmet_warnings(
         &prepared.section,
         &mesh,
@@ -88,6 +93,7 @@ pub fn solve_nonlinear(prepared: Prepared, mesh: Mesh, mesh_s: f64) -> Result<So
             ..Timings::default()
         },
         nonlinear: Some(outcome),
+        solver: None,
         mesh_files: None,
         prepared,
     })

@@ -3,8 +3,9 @@
 //! on the same fixed nodes. Load cases other than the model file's own are built only by the
 //! tests today; a later change gives them a command-line interface.
 
+use super::amg::AmgSolver;
 use super::cholesky::{Ordering, SparseCholesky};
-use super::{LinearSolver, Solution, norm};
+use super::{LinearSolver, PipelineSolver, Solution, SolverChoice, norm};
 use crate::error::{Error, Result};
 use crate::fem::{System, mat_vec};
 use sprs::CsMat;
@@ -35,23 +36,60 @@ impl Factorized<SparseCholesky> {
     /// dissection order of the mesh nodes `nodes` (coordinates per node of the system; see
     /// [`super::ordering`]). The pipeline's factorisation.
     pub fn with_coordinates(system: &System, nodes: &[[f64; 2]]) -> Result<Self> {
-        if nodes.len() != system.node_count() {
-            return Err(Error::run(format!(
-                "internal error: {} node coordinates for a system of {} nodes",
-                nodes.len(),
-                system.node_count()
-            )));
-        }
-        let free: Vec<[f64; 2]> = system
-            .fixed
-            .iter()
-            .zip(nodes)
-            .filter(|(f, _)| f.is_none())
-            .map(|(_, p)| *p)
-            .collect();
+        let free = free_coordinates(system, nodes)?;
         Self::with_solver(system, |a| {
             SparseCholesky::factorize_with(a, Ordering::Geometric(&free))
         })
+    }
+}
+
+/// The coordinates of the free nodes of `system`, in reduced order.
+fn free_coordinates(system: &System, nodes: &[[f64; 2]]) -> Result<Vec<[f64; 2]>> {
+    if nodes.len() != system.node_count() {
+        return Err(Error::run(format!(
+            "internal error: {} node coordinates for a system of {} nodes",
+            nodes.len(),
+            system.node_count()
+        )));
+    }
+    Ok(system
+        .fixed
+        .iter()
+        .zip(nodes)
+        .filter(|(f, _)| f.is_none())
+        .map(|(_, p)| *p)
+        .collect())
+}
+
+impl Factorized<PipelineSolver> {
+    /// The pipeline's preparation: splits the system and prepares `K_ff` by the solver `choice`
+    /// resolves to for its size — sparse Cholesky in the geometric nested dissection order of
+    /// the mesh nodes `nodes` (as [`Factorized::with_coordinates`]) or the smoothed
+    /// aggregation AMG ([`AmgSolver`]).
+    pub fn for_mesh(system: &System, nodes: &[[f64; 2]], choice: SolverChoice) -> Result<Self> {
+        let free = free_coordinates(system, nodes)?;
+        Self::with_solver(system, |a| match choice.resolve(a.rows()) {
+            SolverChoice::Amg => Ok(PipelineSolver::Amg(AmgSolver::new(a)?)),
+            _ => Ok(PipelineSolver::Cholesky(SparseCholesky::factorize_with(
+                a,
+                Ordering::Geometric(&free),
+            )?)),
+        })
+    }
+
+    /// The solver used (`cholesky` when every node is fixed and nothing was solved) and the
+    /// conjugate gradient iterations of the last solve (1 for Cholesky, 0 without a solve).
+    pub fn used(&self) -> (SolverChoice, usize) {
+        self.solver
+            .as_ref()
+            .map_or((SolverChoice::Cholesky, 0), |s| {
+                (s.choice(), s.last_iterations())
+            })
+    }
+
+    /// Unknowns of the reduced system.
+    pub fn unknowns(&self) -> usize {
+        self.free.len()
     }
 }
 
