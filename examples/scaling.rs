@@ -62,9 +62,12 @@ fn median(mut v: Vec<f64>) -> f64 {
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
+    // As the command-line tool does (src/alloc.rs): peak memory as a user sees it.
+    xsheat::alloc::fix_mmap_threshold();
     let args: Vec<String> = std::env::args().collect();
     if args.get(1).map(String::as_str) == Some("--child") {
-        return Ok(child(args[2].parse()?, &args[3])?);
+        let solver = args.get(3).map_or("auto", String::as_str);
+        return Ok(child(args[2].parse()?, solver)?);
     }
     let max: f64 = args.get(1).and_then(|s| s.parse().ok()).unwrap_or(2.0e6);
     let solver = args.get(2).map_or("auto", String::as_str);

@@ -23,6 +23,7 @@
 #![warn(missing_docs)]
 #![warn(clippy::too_many_lines)]
 
+pub mod alloc;
 pub mod error;
 pub mod fem;
 pub mod geom;

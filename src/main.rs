@@ -770,6 +770,7 @@ fn execute(cli: Cli) -> xsheat::Result<()> {
 }
 
 fn main() -> ExitCode {
+    xsheat::alloc::fix_mmap_threshold();
     let cli = Cli::parse();
     match execute(cli) {
         Ok(()) => ExitCode::SUCCESS,

@@ -7,9 +7,9 @@ use std::path::{Path, PathBuf};
 
 /// Top-level modules of the library in pipeline order. A module may use `crate::X` only for an
 /// `X` earlier in this list (unit-test code excepted).
-const ORDER: [&str; 15] = [
-    "error", "text", "progress", "geom", "model", "geometry", "mesh", "fem", "solve", "post",
-    "grid", "run", "study", "output", "report",
+const ORDER: [&str; 16] = [
+    "alloc", "error", "text", "progress", "geom", "model", "geometry", "mesh", "fem", "solve",
+    "post", "grid", "run", "study", "output", "report",
 ];
 
 /// Largest source file, lines (unit tests included).

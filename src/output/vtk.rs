@@ -81,20 +81,36 @@ impl VtkValues<'_> {
         }
     }
 
-    fn le_bytes(&self) -> Vec<u8> {
-        fn collect<const N: usize, T: Copy>(v: &[T], f: impl Fn(T) -> [u8; N]) -> Vec<u8> {
-            let mut out = Vec::with_capacity(v.len() * N);
+    /// Bytes of the values (little-endian).
+    fn byte_len(&self) -> usize {
+        match self {
+            VtkValues::F64(v) => 8 * v.len(),
+            VtkValues::I32(v) => 4 * v.len(),
+            VtkValues::I64(v) => 8 * v.len(),
+            VtkValues::U8(v) => v.len(),
+        }
+    }
+
+    /// Appends the values' little-endian bytes to `out`.
+    fn extend_le(&self, out: &mut Vec<u8>) {
+        fn each<const N: usize, T: Copy>(out: &mut Vec<u8>, v: &[T], f: impl Fn(T) -> [u8; N]) {
+            out.reserve(v.len() * N);
             for &x in v {
                 out.extend_from_slice(&f(x));
             }
-            out
         }
         match self {
-            VtkValues::F64(v) => collect(v, f64::to_le_bytes),
-            VtkValues::I32(v) => collect(v, i32::to_le_bytes),
-            VtkValues::I64(v) => collect(v, i64::to_le_bytes),
-            VtkValues::U8(v) => v.to_vec(),
+            VtkValues::F64(v) => each(out, v, f64::to_le_bytes),
+            VtkValues::I32(v) => each(out, v, i32::to_le_bytes),
+            VtkValues::I64(v) => each(out, v, i64::to_le_bytes),
+            VtkValues::U8(v) => out.extend_from_slice(v),
         }
+    }
+
+    fn le_bytes(&self) -> Vec<u8> {
+        let mut out = Vec::with_capacity(self.byte_len());
+        self.extend_le(&mut out);
+        out
     }
 }
 
@@ -150,29 +166,47 @@ pub struct VtuPiece<'a> {
     pub field_data: Vec<VtkArray<'a>>,
 }
 
+/// Length of the standard base64 (RFC 4648, padded) of `n` bytes.
+pub(crate) fn base64_len(n: usize) -> usize {
+    n.div_ceil(3) * 4
+}
+
 /// Standard base64 (RFC 4648, with `=` padding) of `bytes`, appended to `out`.
 pub(crate) fn base64_into(out: &mut Vec<u8>, bytes: &[u8]) {
+    let at = out.len();
+    out.resize(at + base64_len(bytes.len()), 0);
+    base64_to_slice(&mut out[at..], bytes);
+}
+
+/// Standard base64 of `bytes` written over `out`, which holds exactly
+/// [`base64_len`]`(bytes.len())` bytes.
+fn base64_to_slice(out: &mut [u8], bytes: &[u8]) {
     const TABLE: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
-    out.reserve(bytes.len().div_ceil(3) * 4);
     let mut chunks = bytes.chunks_exact(3);
-    for c in &mut chunks {
+    let mut quads = out.chunks_exact_mut(4);
+    for (c, q) in (&mut chunks).zip(&mut quads) {
         let n = (u32::from(c[0]) << 16) | (u32::from(c[1]) << 8) | u32::from(c[2]);
-        out.extend_from_slice(&[
+        q.copy_from_slice(&[
             TABLE[(n >> 18) as usize & 63],
             TABLE[(n >> 12) as usize & 63],
             TABLE[(n >> 6) as usize & 63],
             TABLE[n as usize & 63],
         ]);
     }
-    match *chunks.remainder() {
-        [a] => {
+    let last = quads.next();
+    match (chunks.remainder(), last) {
+        (&[a], Some(q)) => {
             let n = u32::from(a) << 16;
-            out.extend_from_slice(&[TABLE[(n >> 18) as usize], TABLE[(n >> 12) as usize & 63]]);
-            out.extend_from_slice(b"==");
+            q.copy_from_slice(&[
+                TABLE[(n >> 18) as usize],
+                TABLE[(n >> 12) as usize & 63],
+                b'=',
+                b'=',
+            ]);
         }
-        [a, b] => {
+        (&[a, b], Some(q)) => {
             let n = (u32::from(a) << 16) | (u32::from(b) << 8);
-            out.extend_from_slice(&[
+            q.copy_from_slice(&[
                 TABLE[(n >> 18) as usize],
                 TABLE[(n >> 12) as usize & 63],
                 TABLE[(n >> 6) as usize & 63],
@@ -219,35 +253,40 @@ struct Appender<'a> {
     parts: Vec<Part<'a>>,
 }
 
-/// One array's appended payload: base64 of its byte count and bytes, or with compression of
-/// the zlib block header and the block.
-fn encode_array(name: &str, values: &VtkValues, compress: bool) -> Result<Vec<u8>> {
+/// A compressed array's appended payload: base64 of the zlib block header and of the block.
+fn encode_compressed(name: &str, values: &VtkValues) -> Result<Vec<u8>> {
     let bytes = values.le_bytes();
     let n = bytes.len() as u64;
+    let mut z = flate2::write::ZlibEncoder::new(
+        Vec::with_capacity(bytes.len() / 2),
+        flate2::Compression::new(VTK_ZLIB_LEVEL),
+    );
+    let packed = z
+        .write_all(&bytes)
+        .and_then(|()| z.finish())
+        .map_err(|e| Error::run(format!("cannot compress VTK array {name}: {e}")))?;
+    let header: Vec<u8> = [1, n, 0, packed.len() as u64]
+        .iter()
+        .flat_map(|h| h.to_le_bytes())
+        .collect();
     let mut out = Vec::new();
-    if compress {
-        let mut z = flate2::write::ZlibEncoder::new(
-            Vec::with_capacity(bytes.len() / 2),
-            flate2::Compression::new(VTK_ZLIB_LEVEL),
-        );
-        let packed = z
-            .write_all(&bytes)
-            .and_then(|()| z.finish())
-            .map_err(|e| Error::run(format!("cannot compress VTK array {name}: {e}")))?;
-        let header: Vec<u8> = [1, n, 0, packed.len() as u64]
-            .iter()
-            .flat_map(|h| h.to_le_bytes())
-            .collect();
-        base64_into(&mut out, &header);
-        base64_into(&mut out, &packed);
-    } else {
-        let mut all = Vec::with_capacity(8 + bytes.len());
-        all.extend_from_slice(&n.to_le_bytes());
-        all.extend_from_slice(&bytes);
-        drop(bytes);
-        base64_into(&mut out, &all);
-    }
+    base64_into(&mut out, &header);
+    base64_into(&mut out, &packed);
     Ok(out)
+}
+
+/// Length of an uncompressed array's appended payload: base64 of its byte count (UInt64)
+/// and its bytes.
+fn plain_len(values: &VtkValues) -> usize {
+    base64_len(8 + values.byte_len())
+}
+
+/// An uncompressed array's appended payload written over `slot` ([`plain_len`] bytes).
+fn encode_plain_into(slot: &mut [u8], values: &VtkValues) {
+    let mut all = Vec::with_capacity(8 + values.byte_len());
+    all.extend_from_slice(&(values.byte_len() as u64).to_le_bytes());
+    values.extend_le(&mut all);
+    base64_to_slice(slot, &all);
 }
 
 impl<'a> Appender<'a> {
@@ -294,18 +333,33 @@ impl<'a> Appender<'a> {
     /// The file: the XML head with every array's offset, `tail` (which opens the appended
     /// data), the payload, and the closing tags.
     fn finish(self, tail: &str) -> Result<Vec<u8>> {
-        let compress = self.compress;
-        let payloads: Vec<Vec<u8>> = self
+        let arrays: Vec<(&str, &VtkValues)> = self
             .parts
-            .par_iter()
+            .iter()
             .filter_map(|p| match p {
-                Part::Array { name, values, .. } => Some(encode_array(name, values, compress)),
+                Part::Array { name, values, .. } => Some((name.as_str(), values)),
                 Part::Text(_) => None,
             })
-            .collect::<Result<_>>()?;
+            .collect();
+        // Compressed payloads are made first (their length is the compressed one); plain ones
+        // have a length known in advance and are encoded straight into their place below.
+        let packed: Option<Vec<Vec<u8>>> = if self.compress {
+            Some(
+                arrays
+                    .par_iter()
+                    .map(|(name, values)| encode_compressed(name, values))
+                    .collect::<Result<_>>()?,
+            )
+        } else {
+            None
+        };
+        let lens: Vec<usize> = match &packed {
+            Some(p) => p.iter().map(Vec::len).collect(),
+            None => arrays.iter().map(|(_, v)| plain_len(v)).collect(),
+        };
         let mut xml = String::new();
         let mut offset = 0usize;
-        let mut next = payloads.iter();
+        let mut next = lens.iter();
         for p in &self.parts {
             match p {
                 Part::Text(t) => xml.push_str(t),
@@ -321,18 +375,35 @@ impl<'a> Appender<'a> {
                         values.type_name(),
                         xml_attr(name),
                     );
-                    offset += next.next().map_or(0, Vec::len);
+                    offset += next.next().copied().unwrap_or(0);
                 }
             }
         }
         xml.push_str(tail);
         const CLOSE: &[u8] = b"\n  </AppendedData>\n</VTKFile>\n";
-        let mut out = Vec::with_capacity(xml.len() + offset + CLOSE.len());
-        out.extend_from_slice(xml.as_bytes());
-        for p in &payloads {
-            out.extend_from_slice(p);
+        let head = xml.len();
+        let mut out = vec![0u8; head + offset + CLOSE.len()];
+        out[..head].copy_from_slice(xml.as_bytes());
+        out[head + offset..].copy_from_slice(CLOSE);
+        // Each array's place in the file, in order.
+        let mut slots: Vec<&mut [u8]> = Vec::with_capacity(lens.len());
+        let mut rest = &mut out[head..head + offset];
+        for &l in &lens {
+            let (slot, tail) = std::mem::take(&mut rest).split_at_mut(l);
+            slots.push(slot);
+            rest = tail;
         }
-        out.extend_from_slice(CLOSE);
+        match &packed {
+            Some(p) => {
+                for (slot, bytes) in slots.into_iter().zip(p) {
+                    slot.copy_from_slice(bytes);
+                }
+            }
+            None => slots
+                .into_par_iter()
+                .zip(arrays.par_iter())
+                .for_each(|(slot, (_, values))| encode_plain_into(slot, values)),
+        }
         Ok(out)
     }
 
@@ -672,4 +743,28 @@ pub fn mesh_vtu_with(mesh: &Mesh, options: &VtkOptions) -> Result<Vec<u8>> {
         VtkArray::scalars("area_m2", &areas),
     ];
     triangles_vtu(mesh, vec![], cell, vec![], options)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The test vectors of RFC 4648, section 10.
+    #[test]
+    fn base64_matches_the_rfc_4648_test_vectors() {
+        for (plain, coded) in [
+            ("", ""),
+            ("f", "Zg=="),
+            ("fo", "Zm8="),
+            ("foo", "Zm9v"),
+            ("foob", "Zm9vYg=="),
+            ("fooba", "Zm9vYmE="),
+            ("foobar", "Zm9vYmFy"),
+        ] {
+            let mut out = b"x".to_vec();
+            base64_into(&mut out, plain.as_bytes());
+            assert_eq!(out, format!("x{coded}").into_bytes(), "{plain:?}");
+            assert_eq!(base64_len(plain.len()), coded.len());
+        }
+    }
 }
