@@ -123,6 +123,9 @@ def main():
         print(f"{name:34} {t:9.3f} {ratio:10.3f} {tgt:>8} {met:>4} {r:10.2e} {d:14.2e}")
 
     limits = run([os.path.join(exe, "examples", "export_poly"), a.model, poly]).stdout.split()
+    # Triangle reads a switch's number up to the first letter, so "a3.2e-4" would be area 3.2
+    # followed by the switch "e": write the area in plain decimals.
+    limits = [f"a{float(s[1:]):.15f}".rstrip("0") if s.startswith("a") else s for s in limits]
     our_mesh = statistics.median(mesh_s)
     print(f"mesh: Triangle switches p{''.join(limits)}; xsheat mesh stage median {our_mesh:.3f} s "
           f"for {tri_ours} triangles")
