@@ -133,11 +133,15 @@ fn model(u: &mut Unstructured) -> Result<ModelFile> {
     let nmat = u.int_in_range(1u8..=3)?;
     for name in MATERIAL_NAMES.iter().take(usize::from(nmat)) {
         let mut mat = MaterialFile {
-            conductivity: f64::from(u.int_in_range(1u8..=40)?) * 0.1,
+            conductivity: xsheat::model::ConductivityFile::Scalar(
+                f64::from(u.int_in_range(1u8..=40)?) * 0.1,
+            ),
             ..Default::default()
         };
         if u.ratio(1u8, 4)? {
-            mat.heat_source = Some(f64::from(u.int_in_range(-50i8..=100)?));
+            mat.heat_source = Some(xsheat::model::FieldFile::Value(f64::from(
+                u.int_in_range(-50i8..=100)?,
+            )));
         }
         m.materials.insert((*name).to_string(), mat);
     }
