@@ -1,7 +1,8 @@
 //! A solve on one thread and on two gives the same result set byte for byte (issue 10's
 //! determinism promise), on a model large enough that every parallel part runs in parallel:
 //! element matrices, the per-triangle post-processing, the nested dissection's halves and the
-//! numeric factorisation (more than `solve::cholesky::PARALLEL_FACTOR_FROM` unknowns).
+//! numeric factorisation (more than `solve::cholesky::PARALLEL_FACTOR_FROM` unknowns), and load
+//! cases solved side by side on the kept factorisation.
 
 mod common;
 
@@ -53,6 +54,14 @@ samples = 101
 [[cuts]]
 name = "across"
 points = [[0.0, 4.0], [20.0, 4.0]]
+[[cases]]
+name = "winter"
+[cases.boundaries.top]
+ambient = -15.0
+[[cases]]
+name = "warm-supply"
+[cases.boundaries.supply]
+temperature = 75.0
 "#,
     );
     for i in 0..10 {
@@ -66,22 +75,34 @@ points = [[0.0, 4.0], [20.0, 4.0]]
     s
 }
 
+/// Every file under `dir` (load-case directories included) by relative path, with
+/// summary.json files stripped of their `run` object.
 fn files(dir: &Path) -> Vec<(String, Vec<u8>)> {
-    let mut v: Vec<(String, Vec<u8>)> = std::fs::read_dir(dir)
-        .expect("result set")
-        .map(|e| {
-            let e = e.expect("entry");
-            let name = e.file_name().to_string_lossy().into_owned();
-            let mut bytes = std::fs::read(e.path()).expect("file");
-            if name == "summary.json" {
-                // The `run` object (timings, memory, thread count) is the one allowed difference.
+    fn walk(root: &Path, dir: &Path, out: &mut Vec<(String, Vec<u8>)>) {
+        for e in std::fs::read_dir(dir).expect("result set") {
+            let path = e.expect("entry").path();
+            if path.is_dir() {
+                walk(root, &path, out);
+                continue;
+            }
+            let name = path
+                .strip_prefix(root)
+                .expect("inside")
+                .to_string_lossy()
+                .into_owned();
+            let mut bytes = std::fs::read(&path).expect("file");
+            if path.file_name().is_some_and(|n| n == "summary.json") {
+                // The `run` object (timings, memory, thread count) is the one allowed
+                // difference.
                 let mut json: serde_json::Value = serde_json::from_slice(&bytes).expect("json");
                 json.as_object_mut().expect("object").remove("run");
                 bytes = serde_json::to_vec_pretty(&json).expect("json");
             }
-            (name, bytes)
-        })
-        .collect();
+            out.push((name, bytes));
+        }
+    }
+    let mut v = Vec::new();
+    walk(dir, dir, &mut v);
     v.sort();
     v
 }
@@ -106,6 +127,7 @@ fn one_thread_and_two_threads_write_the_same_files() {
         a.iter().map(|f| &f.0).collect::<Vec<_>>(),
         b.iter().map(|f| &f.0).collect::<Vec<_>>()
     );
+    assert!(a.iter().any(|f| f.0.starts_with("winter")), "case files");
     for ((name, x), (_, y)) in a.iter().zip(&b) {
         assert!(x == y, "{name} differs between 1 and 2 threads");
     }

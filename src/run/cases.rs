@@ -11,6 +11,7 @@ use crate::mesh::Mesh;
 use crate::model::Section;
 use crate::post::{self, Results};
 use crate::solve::{self, Factorized, PipelineSolver, Solution};
+use rayon::prelude::*;
 use serde::Serialize;
 
 /// How a case's system was solved.
@@ -70,8 +71,32 @@ pub fn solve_cases(
     factor: &Factorized<PipelineSolver>,
 ) -> Result<Vec<CaseSolved>> {
     let locator = post::Locator::new(mesh);
-    (0..section.cases.len())
-        .map(|i| solve_case_located(section, mesh, base, factor, i, &locator))
+    // Cases that reuse the base factorisation are independent solves with it: they run side by
+    // side on the thread pool (each result depends on its case alone, so the files do not
+    // depend on the thread count). Cases that refactorise run one at a time, so that at most
+    // one further factor is held. Results and the first error are taken in file order.
+    let n = section.cases.len();
+    let reused: Vec<usize> = (0..n)
+        .filter(|&i| !section.case_changes_matrix(i))
+        .collect();
+    let mut solved: Vec<Option<Result<CaseSolved>>> = (0..n).map(|_| None).collect();
+    let parallel: Vec<(usize, Result<CaseSolved>)> = reused
+        .par_iter()
+        .map(|&i| {
+            (
+                i,
+                solve_case_located(section, mesh, base, factor, i, &locator),
+            )
+        })
+        .collect();
+    for (i, r) in parallel {
+        solved[i] = Some(r);
+    }
+    (0..n)
+        .map(|i| match solved[i].take() {
+            Some(r) => r,
+            None => solve_case_located(section, mesh, base, factor, i, &locator),
+        })
         .collect()
 }
 
