@@ -19,47 +19,9 @@ use std::time::Instant;
 use xsheat::mesh::MeshOptions;
 use xsheat::{model, run, study};
 
-fn model_text(max_area: Option<f64>) -> String {
-    let mesh = max_area.map_or(String::new(), |a| format!("[mesh]\nmax_area = {a}\n"));
-    let mut s = format!(
-        r#"{mesh}[materials.concrete]
-conductivity = 1.8
-[materials.clay]
-conductivity = 1.1
-[outline]
-material = "concrete"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 10.0], [0.0, 10.0]]
-edges = ["base", "side", "top", "side"]
-[[regions]]
-material = "clay"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 3.0], [0.0, 3.0]]
-[boundaries.base]
-kind = "fixed"
-temperature = 5.0
-[boundaries.side]
-kind = "insulated"
-[boundaries.top]
-kind = "convection"
-h = 12.0
-ambient = -5.0
-[boundaries.supply]
-kind = "fixed"
-temperature = 60.0
-[boundaries.return]
-kind = "fixed"
-temperature = 10.0
-"#
-    );
-    for i in 0..10 {
-        let x = 1.0 + 2.0 * f64::from(i);
-        for (y, name) in [(5.0, "supply"), (7.5, "return")] {
-            s.push_str(&format!(
-                "[[holes]]\ncircle = {{ center = [{x}, {y}], radius = 0.15 }}\nboundary = \"{name}\"\n"
-            ));
-        }
-    }
-    s
-}
+#[path = "common/scaling_section.rs"]
+mod scaling_section;
+use scaling_section::{area, model_text};
 
 /// Start times of the adaptive cycles (progress stages named "adaptive cycle N").
 struct Clock {
@@ -92,7 +54,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     }));
     xsheat::progress::install(Box::new(Shared(clock)));
     let opts = MeshOptions::with_max_triangles(3_000_000)?;
-    let prepared = run::prepare_model(model::parse(&model_text(Some(0.05)))?)?;
+    let prepared = run::prepare_model(model::parse(&model_text(0.05))?)?;
     let t0 = Instant::now();
     let solved = study::adaptive::solve_adaptive(prepared, &opts, 0.005)?;
     let end = Instant::now();
@@ -113,7 +75,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         "| cycle | triangles | cycle_s | plain triangles | plain_s | cycle/plain per triangle |"
     );
     println!("|---|---|---|---|---|---|");
-    let area = 200.0 - 20.0 * std::f64::consts::PI * 0.15 * 0.15;
+    let area = area();
     for (k, c) in history.iter().enumerate().skip(1) {
         let (Some(&from), to) = (starts.get(k - 1), starts.get(k).copied().unwrap_or(end)) else {
             continue;
@@ -123,7 +85,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let mut times = Vec::new();
         let mut plain_triangles = 0;
         for _ in 0..reps {
-            let p = run::prepare_model(model::parse(&model_text(Some(max_area)))?)?;
+            let p = run::prepare_model(model::parse(&model_text(max_area))?)?;
             let t = Instant::now();
             let s = run::solve(p, &opts)?;
             times.push(t.elapsed().as_secs_f64());

@@ -18,48 +18,9 @@ use xsheat::solve::{
 };
 use xsheat::{fem, mesh::MeshOptions, model, run};
 
-fn model_text(max_area: f64) -> String {
-    let mut s = format!(
-        r#"[mesh]
-max_area = {max_area}
-[materials.concrete]
-conductivity = 1.8
-[materials.clay]
-conductivity = 1.1
-[outline]
-material = "concrete"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 10.0], [0.0, 10.0]]
-edges = ["base", "side", "top", "side"]
-[[regions]]
-material = "clay"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 3.0], [0.0, 3.0]]
-[boundaries.base]
-kind = "fixed"
-temperature = 5.0
-[boundaries.side]
-kind = "insulated"
-[boundaries.top]
-kind = "convection"
-h = 12.0
-ambient = -5.0
-[boundaries.supply]
-kind = "fixed"
-temperature = 60.0
-[boundaries.return]
-kind = "fixed"
-temperature = 10.0
-"#
-    );
-    for i in 0..10 {
-        let x = 1.0 + 2.0 * f64::from(i);
-        for (y, name) in [(5.0, "supply"), (7.5, "return")] {
-            s.push_str(&format!(
-                "[[holes]]\ncircle = {{ center = [{x}, {y}], radius = 0.15 }}\nboundary = \"{name}\"\n"
-            ));
-        }
-    }
-    s
-}
+#[path = "common/scaling_section.rs"]
+mod scaling_section;
+use scaling_section::{area, model_text};
 
 /// A field of /proc/self/status in MiB.
 fn status_mib(key: &str) -> f64 {
@@ -94,7 +55,7 @@ fn backward_error(k: &sprs::CsMat<f64>, x: &[f64], f: &[f64]) -> f64 {
 /// One size and solver; prints `triangles unknowns setup_s solve_s total_s memory_mib
 /// iterations backward_error detail`.
 fn child(target: f64, solver: &str, reps: usize) -> Result<(), Box<dyn std::error::Error>> {
-    let area = 200.0 - 20.0 * std::f64::consts::PI * 0.15 * 0.15;
+    let area = area();
     let text = model_text(xsheat::mesh::TRIANGLES_PER_AREA_LIMIT * area / target);
     let prepared = run::prepare_model(model::parse(&text)?)?;
     let opts = MeshOptions::with_max_triangles(10 * target as usize)?;

@@ -11,48 +11,9 @@ use std::time::Instant;
 use xsheat::solve::{LinearSolver, Ordering, SparseCholesky, factorized::reduced_system};
 use xsheat::{fem, mesh::MeshOptions, model, run};
 
-fn model_text(max_area: f64) -> String {
-    let mut s = format!(
-        r#"[mesh]
-max_area = {max_area}
-[materials.concrete]
-conductivity = 1.8
-[materials.clay]
-conductivity = 1.1
-[outline]
-material = "concrete"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 10.0], [0.0, 10.0]]
-edges = ["base", "side", "top", "side"]
-[[regions]]
-material = "clay"
-points = [[0.0, 0.0], [20.0, 0.0], [20.0, 3.0], [0.0, 3.0]]
-[boundaries.base]
-kind = "fixed"
-temperature = 5.0
-[boundaries.side]
-kind = "insulated"
-[boundaries.top]
-kind = "convection"
-h = 12.0
-ambient = -5.0
-[boundaries.supply]
-kind = "fixed"
-temperature = 60.0
-[boundaries.return]
-kind = "fixed"
-temperature = 10.0
-"#
-    );
-    for i in 0..10 {
-        let x = 1.0 + 2.0 * f64::from(i);
-        for (y, name) in [(5.0, "supply"), (7.5, "return")] {
-            s.push_str(&format!(
-                "[[holes]]\ncircle = {{ center = [{x}, {y}], radius = 0.15 }}\nboundary = \"{name}\"\n"
-            ));
-        }
-    }
-    s
-}
+#[path = "common/scaling_section.rs"]
+mod scaling_section;
+use scaling_section::{area, model_text};
 
 /// CPU seconds of this process (user + system, all threads; /proc/self/stat, Linux), which a
 /// busy machine disturbs less than wall time.
@@ -85,7 +46,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let args: Vec<String> = std::env::args().collect();
     let max: f64 = args.get(1).map_or(Ok(1e6), |s| s.parse())?;
     let reps: usize = args.get(2).map_or(Ok(3), |s| s.parse())?;
-    let area = 200.0 - 20.0 * std::f64::consts::PI * 0.15 * 0.15;
+    let area = area();
     println!(
         "| triangles | unknowns | L entries AMD | L entries ND | ND/AMD | factorise AMD cpu s | factorise ND cpu s | ND/AMD | solve AMD s | solve ND s | residual AMD | residual ND |"
     );

@@ -1,4 +1,5 @@
-//! The section of the `scaling` and `mesh_stages` examples (invented numbers), shared by both.
+//! The section of the `scaling`, `mesh_stages`, `ordering`, `amg` and `adaptive_bench` examples
+//! (invented numbers), shared by them.
 
 /// The section for an area limit: 20 × 10 m, a 3 m lower layer of another material, two rows of
 /// ten pipes (fixed 60 °C and 10 °C), fixed 5 °C base, convection to −5 °C on top.
